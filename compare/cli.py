@@ -1,0 +1,232 @@
+"""Command line: ``desal`` (also ``python -m compare``).
+
+One function per command, one error boundary (:func:`main`): bad input is one line and exit status 2, Ctrl-C is 130,
+anything unexpected is a short message and exit status 1 (``--debug`` shows the traceback). Nothing here computes.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+import numpy as np
+
+from . import __version__
+from .errors import InputError, InputErrors, StrictError
+
+FORMATS = ("table", "json", "csv", "markdown")
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports a usage problem as one line through the error boundary."""
+
+    def error(self, message):  # noqa: D401 - argparse API
+        raise InputError(f"{self.prog}: {message}")
+
+
+# ------------------------------------------------------------------------------------------------------ helpers
+def _parse_recovery(text: str, where: str = "--recovery") -> np.ndarray:
+    """``0.5``, ``50%``, a list ``0.3,0.5`` or a range ``0.3:0.7:5`` (start:stop:count, inclusive)."""
+    expect = 'a mass recovery 0 <= r < 1 such as "0.5", a list "0.3,0.5" or a range "0.3:0.7:5"'
+
+    def one(t):
+        t = t.strip()
+        try:
+            v = float(t[:-1]) / 100 if t.endswith("%") else float(t)
+        except ValueError:
+            raise InputError(f'{where}: expected {expect}, got "{text}"') from None
+        return v
+
+    if ":" in text:
+        parts = text.split(":")
+        if len(parts) != 3:
+            raise InputError(f'{where}: expected {expect}, got "{text}"')
+        try:
+            n = int(parts[2])
+        except ValueError:
+            raise InputError(f'{where}: expected {expect} (the count a whole number), got "{text}"') from None
+        if n < 1:
+            raise InputError(f'{where}: expected {expect} (a count of at least 1), got "{text}"')
+        values = np.round(np.linspace(one(parts[0]), one(parts[1]), n), 12)
+    else:
+        values = np.array([one(t) for t in text.split(",")])
+    bad = values[(values < 0) | (values >= 1) | ~np.isfinite(values)]
+    if bad.size:
+        raise InputError(f'{where}: expected {expect}, got "{text}" ({bad[0]:g} is outside 0 <= r < 1)')
+    return values
+
+
+def _emit(fmt: str, payload, *, table, markdown, csv_rows) -> None:
+    """One output path for every format."""
+    from .present.files import to_csv, to_json
+
+    if fmt == "json":
+        sys.stdout.write(to_json(payload))
+    elif fmt == "csv":
+        sys.stdout.write(to_csv(csv_rows()))
+    elif fmt == "markdown":
+        sys.stdout.write(markdown())
+    else:
+        table()
+
+
+def _console():
+    from rich.console import Console
+    return Console(highlight=False)
+
+
+# ------------------------------------------------------------------------------------------------------ commands
+def cmd_floor(args) -> int:
+    """``desal floor``: least work and osmotic pressure of one feed."""
+    from .present import CAUTION
+    from .present.tables import markdown_report, print_tables, rich_table
+    from .thermo.activity import get_model
+    from .thermo.brine import mass_fraction_from_concentration
+    from .thermo.floor import floor_record
+    from .units import parse_salinity, parse_temperature
+
+    T = parse_temperature(args.temperature, where="--temperature")
+    if not (150.0 < T < 650.0):
+        raise InputError(f'--temperature: expected a liquid-water temperature between -120 and 375 degC, got '
+                         f'"{args.temperature}"')
+    try:
+        model = get_model(args.model, args.water)
+    except InputError as exc:
+        raise InputError(f"--model: {exc}") from None
+
+    def salinity(text, where):
+        kind, value = parse_salinity(text, where=where)
+        return float(mass_fraction_from_concentration(value, T, args.water)) if kind == "concentration" else value
+
+    S_f = salinity(args.salinity, "--salinity")
+    if not (0 < S_f < 1):
+        raise InputError(f'--salinity: expected a salinity above zero and below 1000 g/kg, got "{args.salinity}"')
+    S_p = salinity(args.product_salinity, "--product-salinity")
+    if S_p >= S_f:
+        raise InputError(f'--product-salinity: expected a product salinity below the feed salinity '
+                         f'({S_f * 1e3:.4g} g/kg), got "{args.product_salinity}"')
+    r = _parse_recovery(args.recovery)
+    S_b_max = (S_f - r.max() * S_p) / (1 - r.max())
+    if S_b_max >= 0.6:
+        raise InputError(f'--recovery: expected a recovery that leaves a liquid brine, got "{args.recovery}" '
+                         f'(the brine would be {S_b_max * 1e3:.0f} g/kg)')
+    single = r.size == 1
+    rec = floor_record(model, S_f, T, float(r[0]) if single else r, S_p)
+    if args.strict:
+        range_warnings = [w for w in rec["warnings"] if "outside the validated range" in w]
+        if range_warnings:
+            raise StrictError(f"--strict: {range_warnings[0]}")
+    rec["notice"] = CAUTION
+
+    feed_rows = [
+        ["water / model", f"{rec['water']} / {rec['model']}"],
+        ["feed salinity [g/kg]", rec["salinity_g_per_kg"]],
+        ["temperature [degC]", rec["temperature_c"]],
+        ["product salinity [g/kg]", rec["product_salinity_g_per_kg"]],
+        ["water activity [-]", f"{rec['water_activity']:.6f}"],
+        ["osmotic coefficient [-]", f"{rec['osmotic_coefficient']:.5f}"],
+        ["osmotic pressure [bar]", rec["osmotic_pressure_bar"]],
+        ["least work, zero recovery [kWh/m3]", rec["least_work_kwh_per_m3_zero_recovery"]],
+    ]
+    rec_cols = ["recovery [-]", "brine [g/kg]", "brine osmotic pressure [bar]", "least work [kWh/m3]"]
+    rec_rows = [list(x) for x in zip(np.atleast_1d(rec["recovery"]), np.atleast_1d(rec["brine_salinity_g_per_kg"]),
+                                     np.atleast_1d(rec["brine_osmotic_pressure_bar"]),
+                                     np.atleast_1d(rec["least_work_kwh_per_m3"]))]
+
+    def csv_rows():
+        base = {k: v for k, v in rec.items() if k not in ("recovery", "brine_salinity_g_per_kg",
+                                                           "brine_osmotic_pressure_bar", "least_work_kwh_per_m3",
+                                                           "warnings", "notice")}
+        return [dict(base, recovery=row[0], brine_salinity_g_per_kg=row[1], brine_osmotic_pressure_bar=row[2],
+                     least_work_kwh_per_m3=row[3], warnings=rec["warnings"]) for row in rec_rows]
+
+    def table():
+        print_tables(_console(), [rich_table("Thermodynamic floor", ["feed", "value"], feed_rows),
+                                  rich_table("", rec_cols, rec_rows)], rec["warnings"])
+
+    def markdown():
+        return markdown_report("Thermodynamic floor", [("Feed", ["feed", "value"], feed_rows),
+                                                       ("Recovery", rec_cols, rec_rows)], rec["warnings"])
+
+    _emit(args.format, rec, table=table, markdown=markdown, csv_rows=csv_rows)
+    return 0
+
+
+def cmd_models(args) -> int:
+    """``desal models``: property and technology models with validity ranges and references."""
+    from .present.tables import markdown_report, print_tables, rich_table
+    from .registry import model_catalogue
+
+    cat = model_catalogue()
+    cols = ["kind", "name", "applies to", "validity", "reference"]
+    rows = [[m["kind"], m["name"], m["applies_to"], m["validity"], m["reference"]] for m in cat]
+    _emit(args.format, {"models": cat},
+          table=lambda: print_tables(_console(), [rich_table("Models", cols, rows)], []),
+          markdown=lambda: markdown_report("Models", [("", cols, rows)], []),
+          csv_rows=lambda: cat)
+    return 0
+
+
+# ------------------------------------------------------------------------------------------------------ parser
+def build_parser() -> argparse.ArgumentParser:
+    p = _Parser(prog="desal", description="Desalination energy comparator: the thermodynamic floor and the energy, "
+                                          "cost and emissions of RO, MED and FO for a site. Screening estimates.")
+    p.add_argument("--version", action="version", version=f"desal {__version__}")
+    p.add_argument("--debug", action="store_true", help="show the traceback of an unexpected failure")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+
+    f = sub.add_parser("floor", help="least work of separation and osmotic pressure of a feed",
+                       description="Least work of separation (from the feed's water activity), osmotic pressure and "
+                                   "brine salinity for one feed at one or more mass recoveries.")
+    f.add_argument("--salinity", required=True, help='feed salinity, e.g. "35 g/kg", "3.5 %%" or "36000 mg/L"')
+    f.add_argument("--temperature", required=True, help='feed temperature, e.g. "25 degC" or "77 degF"')
+    f.add_argument("--water", choices=("seawater", "nacl"), default="seawater",
+                   help="kind of water (default seawater)")
+    f.add_argument("--recovery", default="0.5",
+                   help='mass recovery, product/feed (default 0.5); a list "0.3,0.5" or a range "0.3:0.7:5"')
+    f.add_argument("--product-salinity", default="0 g/kg", help='product salinity (default "0 g/kg")')
+    f.add_argument("--model", default=None,
+                   help="water activity model (default: teos10 for seawater, pitzer-nacl for nacl); "
+                        "see 'desal models'")
+    f.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    f.add_argument("--strict", action="store_true", help="refuse values outside a model's validated range")
+    f.set_defaults(func=cmd_floor)
+
+    m = sub.add_parser("models", help="list property and technology models with validity and references",
+                       description="List the property and technology models with their validity ranges and sources.")
+    m.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    m.set_defaults(func=cmd_models)
+    return p
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point; returns the exit status."""
+    argv = sys.argv[1:] if argv is None else list(argv)
+    debug = "--debug" in argv
+    try:
+        parser = build_parser()
+        args = parser.parse_args(argv)
+        if not getattr(args, "command", None):
+            parser.print_help()
+            return 2
+        return int(args.func(args) or 0)
+    except InputErrors as exc:
+        for line in exc.messages:
+            print(f"error: {line}", file=sys.stderr)
+        return 2
+    except InputError as exc:
+        print(f"error: {exc}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+    except SystemExit as exc:          # --help and --version
+        return int(exc.code or 0)
+    except BrokenPipeError:
+        return 0
+    except Exception as exc:  # the one boundary for the unexpected
+        if debug:
+            raise
+        print(f"error: unexpected failure: {type(exc).__name__}: {exc} (run again with --debug for the traceback)",
+              file=sys.stderr)
+        return 1

@@ -1,0 +1,132 @@
+"""The one pint registry and the parsing helpers used at the edges (scenario loading, CLI options, presenters).
+
+Inside the models everything is SI floats or numpy arrays; pint never reaches ``thermo/`` or ``tech/``.
+
+Units of the trade defined here:
+
+* currencies are base dimensions of their own (``USD``, ``EUR`` ...), so a price in one currency can never be converted
+  silently into another;
+* ``MGD``: US million gallons per day; ``m3``: cubic metre; ``ppt``: parts per thousand (pint's own ``ppt`` is parts per
+  trillion, which no water engineer means); ``kWh_th`` is an alias of ``kWh`` used to label heat.
+"""
+
+from __future__ import annotations
+
+import functools
+import re
+
+import pint
+
+from .errors import InputError
+
+CURRENCIES = ("USD", "EUR", "GBP", "JPY", "CNY", "INR", "AUD", "CAD", "CHF", "ZAR", "SAR", "AED", "BRL", "MXN", "CLP")
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+@functools.lru_cache(maxsize=1)
+def registry() -> pint.UnitRegistry:
+    """The project's unit registry (built once)."""
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, on_redefinition="ignore")
+    for code in CURRENCIES:
+        ureg.define(f"{code} = [currency_{code}]")
+    ureg.define("MGD = 1e6 * gallon / day")
+    ureg.define("m3 = meter ** 3")
+    ureg.define("kWh_th = kilowatt_hour")
+    ureg.define("MWh_th = megawatt_hour")
+    ureg.define("ppt = 1e-3 = parts_per_thousand")
+    ureg.define("ppm = 1e-6 = parts_per_million")
+    ureg.define("tCO2 = metric_ton")
+    ureg.define("kgCO2 = kilogram")
+    ureg.define("gCO2 = gram")
+    return ureg
+
+
+def parse_quantity(text, *, where: str, expect: str, dimension: str | None = None) -> pint.Quantity:
+    """Parse ``"25 degC"``, ``"40000 m^3/day"`` or a bare number into a pint Quantity.
+
+    Parameters
+    ----------
+    text : str or float
+        The value as written by the user.
+    where : str
+        What names the value in an error message (``"--salinity"`` or ``"scenarios/x.toml: feed.salinity"``).
+    expect : str
+        What the value should look like, for the error message (``'a temperature such as "25 degC"'``).
+    dimension : str, optional
+        A pint dimensionality string such as ``"[temperature]"`` the value must have.
+    """
+    ureg = registry()
+    if isinstance(text, bool):
+        raise InputError(f"{where}: expected {expect}, got {text!r}")
+    if isinstance(text, (int, float)):
+        q = ureg.Quantity(float(text), "")
+    elif isinstance(text, str):
+        m = _NUMBER.match(text)
+        if not m:
+            raise InputError(f'{where}: expected {expect}, got "{text}"')
+        number, unit = m.group(1), m.group(2)
+        if unit == "%":
+            unit = "percent"
+        try:
+            q = ureg.Quantity(float(number), unit or "")
+        except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
+                TypeError, ValueError, AssertionError) as exc:
+            raise InputError(f'{where}: expected {expect}, got "{text}" (unknown unit: {exc})') from None
+    else:
+        raise InputError(f"{where}: expected {expect}, got {text!r}")
+    if dimension is not None and q.dimensionality != ureg.get_dimensionality(dimension):
+        raise InputError(f'{where}: expected {expect}, got "{text}" (its dimension is {q.dimensionality}, '
+                         f'not {dimension})')
+    return q
+
+
+def to_si(text, unit: str, *, where: str, expect: str) -> float:
+    """Parse and convert to ``unit`` (a unit of the wanted dimension), returning a float."""
+    ureg = registry()
+    q = parse_quantity(text, where=where, expect=expect)
+    target = ureg.Unit(unit)
+    if q.dimensionality != target.dimensionality:
+        raise InputError(f'{where}: expected {expect}, got "{text}" (its dimension is {q.dimensionality}, '
+                         f'not that of {unit})')
+    return float(q.to(target).magnitude)
+
+
+def parse_temperature(text, *, where: str) -> float:
+    """Temperature [K] from ``"25 degC"``, ``"77 degF"`` or ``"298.15 K"``; a bare number is refused."""
+    expect = 'a temperature such as "25 degC" or "77 degF"'
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        raise InputError(f"{where}: expected {expect}, got {text!r} (give the unit)")
+    return to_si(text, "kelvin", where=where, expect=expect)
+
+
+SALINITY_EXPECT = 'a salinity such as "35 g/kg", "3.5 %" or "36000 mg/L"'
+
+
+def parse_salinity(text, *, where: str) -> tuple[str, float]:
+    """Salinity as ``("fraction", kg/kg)`` or ``("concentration", kg/m^3)``.
+
+    A mass concentration (``mg/L``) needs the solution density to become a mass fraction; the caller converts it with
+    :func:`compare.thermo.brine.mass_fraction_from_concentration`. Negative values are refused here.
+    """
+    ureg = registry()
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        raise InputError(f"{where}: expected {SALINITY_EXPECT}, got {text!r} (give the unit)")
+    q = parse_quantity(text, where=where, expect=SALINITY_EXPECT)
+    if q.dimensionality == ureg.get_dimensionality("[mass]/[length]**3"):
+        kind, value = "concentration", float(q.to("kg/m^3").magnitude)
+    elif q.dimensionless and str(q.units) != "dimensionless":
+        kind, value = "fraction", float(q.to("").magnitude)
+    else:
+        raise InputError(f'{where}: expected {SALINITY_EXPECT}, got "{text}"')
+    if value < 0:
+        raise InputError(f'{where}: expected a salinity of zero or more, got "{text}"')
+    return kind, value
+
+
+def currency_of(q: pint.Quantity) -> str | None:
+    """The currency code a quantity carries (``"USD"``), or None."""
+    for dim in q.dimensionality:
+        if dim.startswith("[currency_"):
+            return dim[len("[currency_"):-1]
+    return None
