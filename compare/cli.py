@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+from pathlib import Path
 
 import numpy as np
 
@@ -167,6 +168,97 @@ def cmd_models(args) -> int:
     return 0
 
 
+def _payload(result) -> dict:
+    from .present import CAUTION
+    return {"scenario": result.scenario.name, "floor": result.floor_record(), "results": result.records(),
+            "warnings": result.warnings(), "notice": CAUTION}
+
+
+def _load_all(paths, overrides):
+    from .errors import InputErrors
+    from .scenario import load
+
+    scenarios, errors = [], []
+    for path in paths:
+        try:
+            scenarios.append(load(path, overrides))
+        except InputErrors as exc:
+            errors += exc.messages
+        except InputError as exc:
+            errors.append(str(exc))
+    if errors:
+        raise InputErrors(errors)
+    return scenarios
+
+
+def cmd_compare(args) -> int:
+    """``desal compare``: every enabled technology for each scenario, side by side."""
+    from .pipeline import check_strict, evaluate
+    from .present.files import to_csv, to_json, write_run
+    from .present.tables import markdown_compare, print_compare
+    from .runrecord import run_record
+
+    if args.out and args.no_save:
+        raise InputError("--out and --no-save: expected one of them, got both")
+    scenarios = _load_all(args.scenario, args.set or [])
+    results = [evaluate(s) for s in scenarios]
+    if args.strict:
+        for r in results:
+            check_strict(r)
+    payloads = [_payload(r) for r in results]
+    csv_rows = [dict(scenario=p["scenario"], **rec) for p in payloads for rec in p["results"]]
+    json_text = to_json(payloads[0] if len(payloads) == 1 else payloads)
+    md_text = "\n".join(markdown_compare(p) for p in payloads)
+    saved = None
+    if not args.no_save:
+        files = {"results.json": json_text, "results.csv": to_csv(csv_rows), "report.md": md_text,
+                 "run.json": to_json(run_record(scenarios, ["desal", "compare", *args.argv]))}
+        label = scenarios[0].name if len(scenarios) == 1 else f"{len(scenarios)}-scenarios"
+        saved = write_run(Path(args.out or "results"), label, files)
+    if args.format == "json":
+        sys.stdout.write(json_text)
+    elif args.format == "csv":
+        sys.stdout.write(to_csv(csv_rows))
+    elif args.format == "markdown":
+        sys.stdout.write(md_text)
+    else:
+        console = _console()
+        for p in payloads:
+            print_compare(console, p)
+    if saved is not None:
+        print(f"saved: {saved}", file=sys.stderr)
+    return 0
+
+
+def cmd_check(args) -> int:
+    """``desal check``: validate scenarios and print every resolved value with its source."""
+    from .present.tables import markdown_report, print_tables, rich_table
+
+    scenarios = _load_all(args.scenario, args.set or [])
+    payload, tables, sections = [], [], []
+    for s in scenarios:
+        rows = [[k, _show_value(s.texts[k]), s.sources[k]] for k in s.texts]
+        payload.append({"scenario": s.name, "path": s.path, "sha256": s.sha256,
+                        "technologies": s.technologies, "uncertainty": s.uncertainty,
+                        "inputs": {k: {"value": s.texts[k], "source": s.sources[k]} for k in s.texts}})
+        tables.append(rich_table(f"{s.name}: valid; compares {', '.join(s.technologies) or 'no technology'}",
+                                 ["key", "value", "source"], rows))
+        sections.append((s.name, ["key", "value", "source"], rows))
+    _emit(args.format, payload[0] if len(payload) == 1 else payload,
+          table=lambda: print_tables(_console(), tables, []),
+          markdown=lambda: markdown_report("Resolved scenarios", sections, []),
+          csv_rows=lambda: [dict(scenario=p["scenario"], key=k, **v) for p in payload for k, v in p["inputs"].items()])
+    return 0
+
+
+def _show_value(v):
+    if isinstance(v, list):
+        return ", ".join(map(str, v))
+    if isinstance(v, dict):
+        return ", ".join(f"{k} = {x}" for k, x in v.items())
+    return str(v)
+
+
 # ------------------------------------------------------------------------------------------------------ parser
 def build_parser() -> argparse.ArgumentParser:
     p = _Parser(prog="desal", description="Desalination energy comparator: the thermodynamic floor and the energy, "
@@ -192,6 +284,26 @@ def build_parser() -> argparse.ArgumentParser:
     f.add_argument("--strict", action="store_true", help="refuse values outside a model's validated range")
     f.set_defaults(func=cmd_floor)
 
+    c = sub.add_parser("compare", help="compare every enabled technology for one or more scenario files",
+                       description="Evaluate every enabled technology for each scenario on the same assumptions and "
+                                   "print them side by side. Saves a new folder under results/ unless --no-save.")
+    c.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
+    c.add_argument("--set", action="append", metavar="K=V",
+                   help='override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)')
+    c.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    c.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
+    c.add_argument("--no-save", action="store_true", help="print only; write no files")
+    c.add_argument("--strict", action="store_true", help="refuse values outside a model's validated range")
+    c.set_defaults(func=cmd_compare)
+
+    k = sub.add_parser("check", help="validate scenario files and print every resolved value with its source",
+                       description="Validate scenario files and print the resolved scenario, each default with its "
+                                   "source. Writes nothing.")
+    k.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
+    k.add_argument("--set", action="append", metavar="K=V", help="override a scenario key (repeatable)")
+    k.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    k.set_defaults(func=cmd_check)
+
     m = sub.add_parser("models", help="list property and technology models with validity and references",
                        description="List the property and technology models with their validity ranges and sources.")
     m.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
@@ -209,6 +321,7 @@ def main(argv: list[str] | None = None) -> int:
         if not getattr(args, "command", None):
             parser.print_help()
             return 2
+        args.argv = argv
         return int(args.func(args) or 0)
     except InputErrors as exc:
         for line in exc.messages:

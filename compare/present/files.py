@@ -85,3 +85,43 @@ def write_atomic(path: Path, text: str) -> Path:
     finally:
         os.unlink(tmp)
     return path
+
+
+def _slug(text: str) -> str:
+    import re
+    s = re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower()
+    return s[:40] or "run"
+
+
+def write_run(parent: Path, label: str, files: dict[str, str]) -> Path:
+    """Write ``files`` (name -> text) into a new run folder under ``parent``, atomically; returns the folder.
+
+    The files go into a hidden temporary folder that is renamed into place when complete, so a run folder is either
+    absent or whole. An existing folder is never reused: a numeric suffix is added.
+    """
+    import datetime as _dt
+
+    parent = Path(parent)
+    parent.mkdir(parents=True, exist_ok=True)
+    stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
+    base = f"{stamp}-{_slug(label)}"
+    tmp = Path(tempfile.mkdtemp(prefix=f".{base}.", dir=parent))
+    try:
+        for name, text in files.items():
+            write_atomic(tmp / name, text)
+        for k in range(1000):
+            target = parent / (base if k == 0 else f"{base}-{k + 1}")
+            if target.exists():
+                continue
+            try:
+                os.rename(tmp, target)      # a non-empty folder of that name makes this fail: never overwritten
+            except OSError:
+                if target.exists():
+                    continue
+                raise
+            return target
+        raise FileExistsError(f"no free run folder name under {parent}")
+    except BaseException:
+        import shutil
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise

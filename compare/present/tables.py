@@ -63,3 +63,79 @@ def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]
         parts += ["## Warnings", ""] + [f"- {w}" for w in warnings] + [""]
     parts += [f"> {CAUTION}", ""]
     return "\n".join(parts)
+
+
+# ------------------------------------------------------------------------------------------------ side by side
+def _pct(v):
+    return None if v is None else f"{100 * v:.1f} %"
+
+
+COMPARE_ROWS = [
+    # group, label, getter(record) -> value
+    ("energy", "feasible", lambda r: "yes" if r["feasible"] else "NO"),
+    ("energy", "recovery [-]", lambda r: r["recovery"]),
+    ("energy", "product salinity [g/kg]", lambda r: r["product_salinity_g_per_kg"]),
+    ("energy", "brine salinity [g/kg]", lambda r: r["brine_salinity_g_per_kg"]),
+    ("energy", "electricity [kWh/m3]", lambda r: r["electricity_kwh_per_m3"]),
+    ("energy", "heat [kWh_th/m3]", lambda r: r["heat_kwh_per_m3"]),
+    ("energy", "heat temperature [degC]", lambda r: r["heat_temperature_c"]),
+    ("energy", "work equivalent [kWh/m3]", lambda r: r["work_equivalent_kwh_per_m3"]),
+    ("energy", "least work, own streams [kWh/m3]", lambda r: r["least_work_kwh_per_m3"]),
+    ("energy", "second-law efficiency", lambda r: _pct(r["second_law_efficiency"])),
+    ("site totals", "power [MW]", lambda r: r["power_mw"]),
+    ("site totals", "heat [MW_th]", lambda r: r["heat_mw"]),
+    ("site totals", "electricity [GWh/yr]", lambda r: r["annual_electricity_gwh"]),
+    ("site totals", "heat [GWh_th/yr]", lambda r: r["annual_heat_gwh"]),
+    ("cost", "levelised cost [{cur}/m3]", lambda r: r["levelized_cost_per_m3"]),
+    ("cost", "  capital", lambda r: r["details"]["cost_breakdown_per_m3"]["capital"]),
+    ("cost", "  fixed O&M", lambda r: r["details"]["cost_breakdown_per_m3"]["fixed_om"]),
+    ("cost", "  electricity", lambda r: r["details"]["cost_breakdown_per_m3"]["electricity"]),
+    ("cost", "  heat", lambda r: r["details"]["cost_breakdown_per_m3"]["heat"]),
+    ("emissions", "CO2 [kg/m3]", lambda r: r["emissions_kg_per_m3"]),
+    ("emissions", "CO2 [t/yr]", lambda r: r["annual_emissions_t"]),
+]
+_SKIP_DETAILS = {"cost_breakdown_per_m3", "work_equivalent_of_heat_kwh_per_m3", "annual_production_m3"}
+
+
+def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
+    """(heading, columns, rows) per group of the side-by-side comparison: technologies as columns."""
+    recs = payload["results"]
+    cur = recs[0]["currency"] if recs else ""
+    techs = [r["technology"] for r in recs]
+    fl = payload["floor"]
+    sections = [("floor", ["feed", "value"], [
+        ["model", fl["model"]],
+        ["salinity [g/kg]", fl["feed_salinity_g_per_kg"]],
+        ["temperature [degC]", fl["feed_temperature_c"]],
+        ["water activity [-]", f"{fl['water_activity']:.6f}"],
+        ["osmotic pressure [bar]", fl["osmotic_pressure_bar"]],
+        ["least work, zero recovery [kWh/m3]", fl["least_work_kwh_per_m3_zero_recovery"]],
+    ])]
+    if not recs:
+        return sections
+    groups: dict[str, list[list]] = {}
+    for group, label, get in COMPARE_ROWS:
+        groups.setdefault(group, []).append([label.format(cur=cur)] + [get(r) for r in recs])
+    detail_keys: list[str] = []
+    for r in recs:
+        for k in r["details"]:
+            if k not in _SKIP_DETAILS and k not in detail_keys:
+                detail_keys.append(k)
+    groups["design figures"] = [[k] + [r["details"].get(k) for r in recs] for k in detail_keys]
+    for g, rows in groups.items():
+        if rows:
+            sections.append((g, [g] + techs, rows))
+    return sections
+
+
+def print_compare(console: Console, payload: dict) -> None:
+    title = f"{payload['scenario']}"
+    tables = []
+    for heading, columns, rows in compare_sections(payload):
+        tables.append(rich_table(title if heading == "floor" else "", columns, rows))
+    print_tables(console, tables, payload["warnings"])
+
+
+def markdown_compare(payload: dict) -> str:
+    return markdown_report(payload["scenario"], [(h.capitalize(), c, r) for h, c, r in compare_sections(payload)],
+                           payload["warnings"])

@@ -1,0 +1,353 @@
+"""Scenario files: TOML with quantities as strings with units, validated, defaulted (each default with its source),
+overridable with dotted keys, and converted to SI.
+
+Every problem in a file is reported at once, one line each, as ``FILE: section.key: expected ..., got ...``; the CLI
+exits 2 and writes nothing. Unknown keys are errors with the closest valid key suggested.
+"""
+
+from __future__ import annotations
+
+import difflib
+import hashlib
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError, InputErrors
+from .schema import Spec, efficiency, parse_value
+from .thermo.activity import MODELS, WATERS
+from .units import CURRENCIES
+
+OPTIONAL = "(none)"     # default of a key that may stay unset
+FEED_TEMPERATURE = "the feed temperature"
+
+SITE_SECTIONS: dict[str, dict[str, Spec]] = {
+    "site": {
+        "capacity": Spec("quantity", None, "required", "m^3/s", 'a product flow such as "40000 m^3/day" or "10 MGD"',
+                         lo=0.0, lo_open=True),
+        "availability": Spec("fraction", "0.95", "practice: typical plant availability (no source)",
+                             expect='an availability in (0, 1], e.g. 0.95 or "95 %"', lo=0.0, hi=1.0, lo_open=True),
+    },
+    "feed": {
+        "water": Spec("choice", "seawater", "tool default", choices=WATERS),
+        "salinity": Spec("salinity", None, "required", expect="a salinity above zero", lo=0.0, hi=0.5,
+                         lo_open=True),
+        "temperature": Spec("temperatures", None, "required",
+                            expect='a temperature between 0 and 100 degC such as "25 degC"',
+                            lo=273.15, hi=373.15),
+        "ions": Spec("table", OPTIONAL, "needed when water = \"ions\"",
+                     expect='a table of ion concentrations such as { Na = "10.8 g/kg", Cl = "19.4 g/kg" }'),
+        "model": Spec("choice", OPTIONAL, "the model the water implies (teos10, pitzer-nacl, phreeqc)",
+                      choices=tuple(MODELS)),
+    },
+    "product": {
+        "salinity": Spec("salinity", "0.5 g/kg", "practice: a common drinking-water TDS target of about 500 mg/L",
+                         expect="a product salinity of zero or more", lo=0.0),
+    },
+    "energy": {
+        "electricity_price": Spec("money", "0.08 USD/kWh", "illustrative: an industrial tariff (no source)",
+                                  "1/J", 'a price per energy such as "0.08 USD/kWh"', lo=0.0),
+        "electricity_emissions": Spec("quantity", "0.45 kg/kWh",
+                                      "memory: world-average grid intensity, about 0.45 kg CO2/kWh",
+                                      "kg/J", 'an emission factor such as "0.45 kg/kWh"', lo=0.0),
+        "heat_price": Spec("money", "0.02 USD/kWh", "illustrative: low-pressure steam or waste heat (no source)",
+                           "1/J", 'a price per energy such as "0.02 USD/kWh"', lo=0.0),
+        "heat_emissions": Spec("quantity", "0.2 kg/kWh",
+                               "memory: natural-gas boiler, about 0.18 kg CO2/kWh of fuel at 90 % efficiency",
+                               "kg/J", 'an emission factor such as "0.2 kg/kWh"', lo=0.0),
+        "heat_temperature": Spec("temperature", "110 degC",
+                                 "practice: low-pressure steam available at an industrial site",
+                                 expect='a temperature between 0 and 400 degC such as "110 degC"', lo=273.15,
+                                 hi=673.15),
+        "heat_to_work": Spec("choice", "exergy", "exergy of heat at its temperature (DESIGN.md)",
+                             choices=("exergy", "lost_work")),
+        "dead_state_temperature": Spec("temperature", FEED_TEMPERATURE, "the feed temperature of each period",
+                                       expect='a temperature such as "25 degC"', lo=173.15, hi=373.15),
+        "condenser_temperature": Spec("temperature", "40 degC",
+                                      "practice: steam-turbine condenser (used by heat_to_work = \"lost_work\")",
+                                      expect='a temperature such as "40 degC"', lo=273.15, hi=373.15),
+        "turbine_efficiency": efficiency("0.85", "practice: isentropic efficiency of a steam turbine's last stages"),
+    },
+    "finance": {
+        "currency": Spec("choice", "USD", "tool default", choices=CURRENCIES),
+        "discount_rate": Spec("fraction", "0.07", "practice: a real discount rate for water infrastructure",
+                              expect='a discount rate in [0, 1), e.g. 0.07 or "7 %"', lo=0.0, hi=1.0, hi_open=True),
+        "lifetime": Spec("quantity", "25 year", "practice: desalination plant economic life", "year",
+                         'a lifetime such as "25 year"', lo=0.0, lo_open=True),
+    },
+}
+
+DISTRIBUTIONS = {"triangular": ("low", "mode", "high"), "uniform": ("low", "high"), "normal": ("mean", "sd"),
+                 "lognormal": ("median", "gsd")}
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A resolved scenario: SI values per section and key, each with its source and the text it came from."""
+
+    name: str
+    path: str | None
+    sha256: str | None
+    values: dict[str, dict[str, Any]]
+    sources: dict[str, str]
+    texts: dict[str, Any]
+    overrides: tuple[str, ...] = ()
+    uncertainty: dict = field(default_factory=dict)
+
+    @property
+    def currency(self) -> str:
+        return self.values["finance"]["currency"]
+
+    @property
+    def technologies(self) -> list[str]:
+        from .tech.base import TECHNOLOGIES
+        return [n for n in TECHNOLOGIES if self.values.get(n, {}).get("enabled", False)]
+
+    def get(self, dotted: str):
+        section, key = dotted.split(".", 1)
+        return self.values[section][key]
+
+
+def sections() -> dict[str, dict[str, Spec]]:
+    """Every section's specs: the site's and each registered technology's."""
+    from .tech import load_builtin
+    from .tech.base import COMMON_PARAMETERS, TECHNOLOGIES
+
+    load_builtin()
+    out = dict(SITE_SECTIONS)
+    for name, tech in TECHNOLOGIES.items():
+        out[name] = {**COMMON_PARAMETERS, **tech.parameters}
+    return out
+
+
+def _nearest(word: str, options) -> str:
+    m = difflib.get_close_matches(word, list(options), n=1, cutoff=0.5)
+    return f" (did you mean {m[0]!r}?)" if m else ""
+
+
+def parse_override(text: str) -> tuple[str, str, str]:
+    """``"ro.recovery=0.5"`` -> ``("ro", "recovery", "0.5")``."""
+    if "=" not in text or "." not in text.split("=", 1)[0]:
+        raise InputError(f'--set: expected section.key=value such as "ro.recovery=0.5", got "{text}"')
+    key, value = text.split("=", 1)
+    section, name = key.strip().split(".", 1)
+    return section, name, value.strip()
+
+
+def _resolve_order(specs: dict[str, Spec]) -> list[str]:
+    first = [k for k in ("currency", "water", "temperature") if k in specs]
+    return first + [k for k in specs if k not in first]
+
+
+def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | None = None,
+            overrides: list[str] | tuple[str, ...] = ()) -> Scenario:
+    """Validate a parsed scenario dict, apply ``overrides``, fill defaults, convert to SI.
+
+    Raises :class:`InputErrors` with every problem found, each line prefixed with ``label``.
+    """
+    errors: list[str] = []
+    specs = sections()
+    data = {k: (dict(v) if isinstance(v, dict) else v) for k, v in data.items()}
+    sources: dict[str, str] = {}
+    texts: dict[str, Any] = {}
+
+    # overrides land in the raw data first, so that they go through the same validation
+    seen: dict[str, str] = {}
+    for text in overrides:
+        try:
+            sec, key, value = parse_override(text)
+        except InputError as exc:
+            errors.append(str(exc))
+            continue
+        dotted = f"{sec}.{key}"
+        if dotted in seen:
+            errors.append(f"--set: {dotted} is set twice (\"{seen[dotted]}\" and \"{text}\")")
+            continue
+        seen[dotted] = text
+        if sec not in specs:
+            errors.append(f"--set {dotted}: unknown section {sec!r}{_nearest(sec, specs)}")
+            continue
+        if key not in specs[sec]:
+            errors.append(f"--set {dotted}: unknown key {key!r} in [{sec}]{_nearest(key, specs[sec])}")
+            continue
+        data.setdefault(sec, {})
+        if not isinstance(data[sec], dict):
+            errors.append(f"--set {dotted}: [{sec}] is not a table in the file")
+            continue
+        data[sec][key] = value
+        sources[dotted] = "--set"
+
+    name = data.pop("name", None)
+    if name is not None and not isinstance(name, str):
+        errors.append(f"{label}: name: expected a string, got {name!r}")
+        name = None
+    uncertainty_raw = data.pop("uncertainty", {})
+
+    for sec, body in data.items():
+        if sec not in specs:
+            errors.append(f"{label}: [{sec}]: unknown section{_nearest(sec, specs)}")
+        elif not isinstance(body, dict):
+            errors.append(f"{label}: {sec}: expected a table [{sec}], got {body!r}")
+
+    values: dict[str, dict[str, Any]] = {}
+    ctx = {"currency": "USD", "temperature": 298.15, "water": "seawater"}
+    order = ["finance", "feed", "site", "product", "energy"] + [s for s in specs if s not in SITE_SECTIONS]
+    for sec in order:
+        body = data.get(sec, {})
+        if not isinstance(body, dict):
+            body = {}
+        for key in body:
+            if key not in specs[sec]:
+                errors.append(f"{label}: {sec}.{key}: unknown key{_nearest(key, specs[sec])}")
+        values[sec] = {}
+        for key in _resolve_order(specs[sec]):
+            spec = specs[sec][key]
+            dotted = f"{sec}.{key}"
+            where = f"{label}: {dotted}" if sources.get(dotted) != "--set" else f"--set {dotted}"
+            if key in body:
+                raw = body[key]
+                sources.setdefault(dotted, "file")
+            elif spec.required:
+                errors.append(f"{label}: {dotted}: required, expected {spec.expect}")
+                continue
+            else:
+                raw = spec.default
+                sources[dotted] = f"default ({spec.source})"
+            texts[dotted] = raw
+            if raw == OPTIONAL:
+                values[sec][key] = None
+                continue
+            if raw == FEED_TEMPERATURE:
+                values[sec][key] = ctx["temperature"]
+                continue
+            try:
+                if spec.kind == "money" and key not in body and not raw.split()[1].startswith(ctx["currency"]):
+                    raise InputError(f"{where}: the default ({raw}) is in another currency; give a value in "
+                                     f"{ctx['currency']}")
+                v = parse_value(spec, raw, where, **ctx)
+            except InputError as exc:
+                errors.append(str(exc))
+                continue
+            values[sec][key] = v
+            if dotted == "finance.currency":
+                ctx["currency"] = v
+            elif dotted == "feed.water":
+                ctx["water"] = v
+            elif dotted == "feed.temperature":
+                ctx["temperature"] = float(np.mean(v))
+
+    _cross_checks(values, label, errors)
+    uncertainty = _uncertainty(uncertainty_raw, specs, label, errors, ctx)
+    if errors:
+        raise InputErrors(errors)
+    if not name:
+        name = Path(path).stem if path else "scenario"
+    return Scenario(name, path, sha256, values, sources, texts, tuple(overrides), uncertainty)
+
+
+def _cross_checks(values, label, errors):
+    feed = values.get("feed", {})
+    product = values.get("product", {})
+    S_f, S_p = feed.get("salinity"), product.get("salinity")
+    if S_f is not None and S_p is not None and S_p >= S_f:
+        errors.append(f"{label}: product.salinity: expected a product salinity below the feed salinity "
+                      f"({S_f * 1e3:.4g} g/kg), got {S_p * 1e3:.4g} g/kg")
+    water = feed.get("water")
+    if water == "ions" and not feed.get("ions"):
+        errors.append(f'{label}: feed.ions: required when feed.water = "ions", expected a table such as '
+                      '{ Na = "10.8 g/kg", Cl = "19.4 g/kg" }')
+    if water and water != "ions" and feed.get("ions"):
+        errors.append(f'{label}: feed.ions: only used when feed.water = "ions", got water = "{water}"')
+    model = feed.get("model")
+    if model and water:
+        from .thermo.activity import get_model
+        if model == "phreeqc" and water != "ions":
+            errors.append(f'{label}: feed.model: phreeqc needs feed.water = "ions", got water = "{water}"')
+        elif model != "phreeqc":
+            try:
+                get_model(model, water)
+            except InputError as exc:
+                errors.append(f"{label}: feed.model: {exc}")
+    ions = feed.get("ions")
+    if water == "ions" and ions:
+        from .thermo.phreeqc import IONS
+        from .units import parse_salinity
+        parsed = {}
+        for ion, raw in ions.items():
+            if ion not in IONS:
+                errors.append(f"{label}: feed.ions.{ion}: unknown ion{_nearest(ion, IONS)}; expected one of "
+                              f"{', '.join(IONS)}")
+                continue
+            try:
+                parsed[ion] = parse_salinity(raw, where=f"{label}: feed.ions.{ion}")[1]
+            except InputError as exc:
+                errors.append(str(exc))
+        feed["ions"] = parsed
+
+
+def _uncertainty(raw, specs, label, errors, ctx) -> dict:
+    if not isinstance(raw, dict):
+        errors.append(f"{label}: uncertainty: expected a table [uncertainty], got {raw!r}")
+        return {}
+    out = {}
+    for dotted, dist in raw.items():
+        where = f"{label}: uncertainty.{dotted}"
+        if "." not in dotted or dotted.split(".", 1)[0] not in specs or dotted.split(".", 1)[1] not in \
+                specs[dotted.split(".", 1)[0]]:
+            errors.append(f'{where}: expected a "section.key" of the scenario, got {dotted!r}')
+            continue
+        sec, key = dotted.split(".", 1)
+        spec = specs[sec][key]
+        if not isinstance(dist, dict):
+            errors.append(f'{where}: expected {{ low = "...", mode = "...", high = "..." }} or another '
+                          f"distribution, got {dist!r}")
+            continue
+        kinds = [k for k, fields in DISTRIBUTIONS.items() if set(dist) == set(fields)]
+        if not kinds:
+            forms = "; ".join("{" + ", ".join(f) + "}" for f in DISTRIBUTIONS.values())
+            errors.append(f"{where}: expected the fields of one distribution ({forms}), got {{{', '.join(dist)}}}")
+            continue
+        kind = kinds[0]
+        try:
+            if kind == "lognormal":
+                params = {"median": parse_value(spec, dist["median"], f"{where}.median", **ctx),
+                          "gsd": float(dist["gsd"])}
+            elif kind == "normal":
+                mean = parse_value(spec, dist["mean"], f"{where}.mean", **ctx)
+                sd_spec = Spec(spec.kind, None, "", spec.unit, spec.expect)
+                sd = parse_value(sd_spec, dist["sd"], f"{where}.sd", **ctx) if spec.kind != "temperature" else \
+                    float(str(dist["sd"]).split()[0])
+                params = {"mean": mean, "sd": sd}
+            else:
+                params = {f: parse_value(spec, dist[f], f"{where}.{f}", **ctx) for f in DISTRIBUTIONS[kind]}
+        except (InputError, ValueError) as exc:
+            errors.append(str(exc))
+            continue
+        if kind == "triangular" and not params["low"] <= params["mode"] <= params["high"]:
+            errors.append(f"{where}: expected low <= mode <= high, got {dist}")
+            continue
+        if kind == "uniform" and not params["low"] < params["high"]:
+            errors.append(f"{where}: expected low < high, got {dist}")
+            continue
+        out[dotted] = {"distribution": kind, **params}
+    return out
+
+
+def load(path: str | Path, overrides: list[str] | tuple[str, ...] = ()) -> Scenario:
+    """Read, validate and resolve the scenario file at ``path``."""
+    p = Path(path)
+    label = str(path)
+    try:
+        raw = p.read_bytes()
+    except OSError as exc:
+        raise InputError(f"{label}: cannot read the scenario file: {exc.strerror}") from None
+    try:
+        data = tomllib.loads(raw.decode("utf-8"))
+    except UnicodeDecodeError:
+        raise InputError(f"{label}: expected a UTF-8 TOML file, got undecodable bytes") from None
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{label}: TOML syntax: {exc}") from None
+    return resolve(data, label=label, path=str(path), sha256=hashlib.sha256(raw).hexdigest(), overrides=overrides)

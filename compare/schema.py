@@ -1,0 +1,145 @@
+"""Parameter specifications: what a scenario key accepts, its default and the default's source.
+
+A :class:`Spec` is plain data. The site sections live in :mod:`compare.scenario`; each technology declares its own
+section's specs beside its model (``PARAMETERS`` of a registered technology), so adding a technology never touches
+the scenario loader.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from .errors import InputError
+from .units import (SALINITY_EXPECT, currency_of, parse_quantity, parse_salinity, parse_temperature, registry)
+
+
+@dataclass(frozen=True)
+class Spec:
+    """One scenario key.
+
+    kind: ``quantity`` (converted to ``unit``), ``fraction`` (dimensionless, may be written with %), ``count``
+    (integer), ``flag`` (true/false), ``choice``, ``salinity``, ``temperature``, ``temperatures`` (one value or
+    twelve monthly values), ``money`` (currency times ``unit``), ``table`` (a TOML table, checked by the consumer).
+    ``lo``/``hi`` bound the SI value (``lo_open``/``hi_open`` exclude the bound).
+    """
+
+    kind: str
+    default: Any
+    source: str
+    unit: str | None = None
+    expect: str = ""
+    lo: float | None = None
+    hi: float | None = None
+    lo_open: bool = False
+    hi_open: bool = False
+    choices: tuple = ()
+    help: str = ""
+
+    @property
+    def required(self) -> bool:
+        return self.default is None
+
+
+def _bounds(spec: Spec, value: float, where: str, raw) -> None:
+    lo_bad = spec.lo is not None and (value <= spec.lo if spec.lo_open else value < spec.lo)
+    hi_bad = spec.hi is not None and (value >= spec.hi if spec.hi_open else value > spec.hi)
+    if lo_bad or hi_bad:
+        raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+
+
+def _show(raw) -> str:
+    return f'"{raw}"' if isinstance(raw, str) else repr(raw)
+
+
+def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperature: float = 298.15,
+                water: str = "seawater"):
+    """Parse one raw TOML value (or ``--set`` text) by its spec into SI. Raises one-line :class:`InputError`."""
+    from .thermo.brine import mass_fraction_from_concentration
+
+    k = spec.kind
+    if k == "flag":
+        if isinstance(raw, bool):
+            return raw
+        if isinstance(raw, str) and raw.lower() in ("true", "false", "yes", "no", "on", "off"):
+            return raw.lower() in ("true", "yes", "on")
+        raise InputError(f"{where}: expected true or false, got {_show(raw)}")
+    if k == "choice":
+        if raw not in spec.choices:
+            raise InputError(f"{where}: expected one of {', '.join(map(repr, spec.choices))}, got {_show(raw)}")
+        return raw
+    if k == "count":
+        try:
+            v = int(raw) if not isinstance(raw, bool) and float(raw) == int(float(raw)) else None
+        except (TypeError, ValueError):
+            v = None
+        if v is None:
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        _bounds(spec, v, where, raw)
+        return v
+    if k == "table":
+        if not isinstance(raw, dict):
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        return raw
+    if k == "temperature":
+        v = parse_temperature(raw, where=where)
+        _bounds(spec, v, where, raw)
+        return v
+    if k == "temperatures":
+        if isinstance(raw, list):
+            if len(raw) not in (1, 12):
+                raise InputError(f"{where}: expected one temperature or twelve monthly values, got a list of "
+                                 f"{len(raw)}")
+            vals = [parse_temperature(x, where=f"{where}[{i}]") for i, x in enumerate(raw)]
+            for i, (v, x) in enumerate(zip(vals, raw)):
+                _bounds(spec, v, f"{where}[{i}]", x)
+            return np.array(vals)
+        v = parse_temperature(raw, where=where)
+        _bounds(spec, v, where, raw)
+        return np.array([v])
+    if k == "salinity":
+        kind, v = parse_salinity(raw, where=where)
+        if kind == "concentration":
+            v = float(mass_fraction_from_concentration(v, temperature, water))
+        _bounds(spec, v, where, raw)
+        return v
+    if k == "fraction":
+        if isinstance(raw, bool):
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        q = parse_quantity(raw, where=where, expect=spec.expect)
+        if not q.dimensionless:
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        v = float(q.to("").magnitude)
+        _bounds(spec, v, where, raw)
+        return v
+    if k in ("quantity", "money"):
+        if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        q = parse_quantity(raw, where=where, expect=spec.expect)
+        ureg = registry()
+        unit = spec.unit
+        if k == "money":
+            cur = currency_of(q)
+            if cur is None:
+                raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)} (no currency)")
+            if cur != currency:
+                raise InputError(f"{where}: expected a price in the scenario currency {currency}, got {_show(raw)}")
+            unit = f"{currency} * {spec.unit}" if spec.unit else currency
+        target = ureg.Unit(unit) if unit else ureg.Unit("")
+        if q.dimensionality != target.dimensionality:
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        v = float(q.to(target).magnitude)
+        _bounds(spec, v, where, raw)
+        return v
+    raise AssertionError(f"unknown spec kind {k}")  # pragma: no cover
+
+
+def efficiency(default, source, what="an efficiency") -> Spec:
+    """A fraction in (0, 1]."""
+    return Spec("fraction", default, source, expect=f"{what} in (0, 1], e.g. 0.85 or \"85 %\"", lo=0.0, hi=1.0,
+                lo_open=True)
+
+
+__all__ = ["Spec", "parse_value", "efficiency", "SALINITY_EXPECT"]
