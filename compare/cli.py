@@ -225,6 +225,8 @@ def cmd_compare(args) -> int:
         console = _console()
         for p in payloads:
             print_compare(console, p)
+            if not p["results"]:
+                console.print("no technology is enabled or registered: only the floor is shown", highlight=False)
     if saved is not None:
         print(f"saved: {saved}", file=sys.stderr)
     return 0

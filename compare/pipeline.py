@@ -172,7 +172,7 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         floor_masks[f"model {model.name} is a simplification for comparison only"] = np.ones((n, M), bool)
     floor_warnings = _texts(floor_masks, n, M, None)
 
-    feed = Feed(model, water, S_f, T, S_p_target, T_heat)
+    feed = Feed(model, water, S_f, T, S_p_target, T_heat, grid(get("site.capacity")))
     en = scenario.values["energy"]
     if "energy.dead_state_temperature" in varied or \
             scenario.texts.get("energy.dead_state_temperature") != FEED_TEMPERATURE:

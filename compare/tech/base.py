@@ -27,6 +27,7 @@ class Feed(NamedTuple):
     temperature: np.ndarray       # feed temperature [K]
     product_salinity: np.ndarray  # target product salinity [kg/kg]
     heat_temperature: np.ndarray  # temperature of the heat the site can supply [K]
+    capacity: np.ndarray          # product flow of the plant [m^3/s]
 
 
 @dataclass(frozen=True)
@@ -61,7 +62,7 @@ class Performance:
         shape = np.shape(self.electricity)
         bad = np.zeros(shape, dtype=bool)
         for mask in self.infeasible.values():
-            bad = bad | np.broadcast_to(mask, shape)
+            bad = bad | np.broadcast_to(np.asarray(mask, dtype=bool), shape)
         return ~bad
 
 

@@ -182,3 +182,53 @@ def floor_record(model: ActivityModel, S_f, T, r, S_p=0.0) -> dict:
         "least_work_kwh_per_m3_zero_recovery": val(kwh_per_m3(f.least_work_zero_recovery)),
         "warnings": floor_warnings(model, f, S_f, T),
     }
+
+
+class OsmoticTable:
+    """Osmotic pressure of one model as a fast bilinear table on (sqrt(S), T), for the hot loops of the
+    technology models. Built from the model itself; ``tests/thermo/test_floor.py`` bounds its error against it.
+
+    Grid: sqrt(S) uniform to S = 0.35 kg/kg (700 nodes), T uniform over 0-150 degC (151 nodes). The tabulated
+    quantity is Pi / S, smooth and finite at S = 0. Outside the grid the nearest edge is used; range flags come from
+    the model's validity, not from this table.
+    """
+
+    S_MAX = 0.35
+    T_MIN, T_MAX = 273.15, 423.15
+
+    def __init__(self, model: ActivityModel, n_u: int = 700, n_t: int = 151):
+        self.model = model
+        self.u = np.linspace(0.0, np.sqrt(self.S_MAX), n_u)
+        self.t = np.linspace(self.T_MIN, self.T_MAX, n_t)
+        S = self.u[1:, None] ** 2
+        T = self.t[None, :]
+        y = osmotic_pressure(model.ln_aw(S, T), T) / S
+        y0 = 2 * y[0] - y[1]                  # S -> 0 by linear extrapolation in sqrt(S)
+        self.y = np.vstack([y0[None, :], y])
+        self.du = self.u[1] - self.u[0]
+        self.dt = self.t[1] - self.t[0]
+
+    def __call__(self, S, T):
+        """Osmotic pressure [Pa] at S [kg/kg] and T [K] (arrays broadcast)."""
+        S, T = np.broadcast_arrays(np.asarray(S, dtype=float), np.asarray(T, dtype=float))
+        fu = np.clip(np.nan_to_num(np.sqrt(np.clip(S, 0.0, None)) / self.du), 0.0, self.u.size - 1.000001)
+        ft = np.clip((T - self.T_MIN) / self.dt, 0.0, self.t.size - 1.000001)
+        i = fu.astype(np.intp)
+        j = ft.astype(np.intp)
+        a = fu - i
+        b = ft - j
+        y = self.y
+        val = ((1 - a) * (1 - b) * y[i, j] + a * (1 - b) * y[i + 1, j] + (1 - a) * b * y[i, j + 1]
+               + a * b * y[i + 1, j + 1])
+        return val * S
+
+
+_TABLES: dict = {}
+
+
+def osmotic_table(model: ActivityModel) -> OsmoticTable:
+    """The cached :class:`OsmoticTable` of ``model``."""
+    key = (model.name, model.water, id(model.ln_aw))
+    if key not in _TABLES:
+        _TABLES[key] = OsmoticTable(model)
+    return _TABLES[key]

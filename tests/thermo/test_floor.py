@@ -117,3 +117,14 @@ def test_pitzer_nacl_least_work_against_phi_integral_closed_form():
     m = S / ((1 - S) * M_NACL)
     expected = 2 * m * pitzer_nacl_osmotic_coefficient(m, T) * R * T
     assert least_work_per_kg(PITZER, S, T, 0.0) == pytest.approx(expected, rel=1e-10)
+
+
+@pytest.mark.parametrize("model", [TEOS10, PITZER], ids=lambda m: m.name)
+def test_osmotic_table_error_bound(model):
+    # the hot-loop table against the model itself: 1e-4 relative
+    from compare.thermo.floor import osmotic_table
+    rng = np.random.default_rng(3)
+    S = rng.uniform(0.0005, 0.25, 2000)
+    T = rng.uniform(275.0, 365.0, 2000)
+    exact = osmotic_pressure(model.ln_aw(S, T), T)
+    assert osmotic_table(model)(S, T) == pytest.approx(exact, rel=1e-4)
