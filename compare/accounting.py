@@ -62,7 +62,7 @@ def capital_recovery_factor(rate, years):
 
     Examples
     --------
-    >>> round(float(capital_recovery_factor(0.10, 5)), 5)   # compound-interest tables, i = 10 %, n = 5
+    >>> round(float(capital_recovery_factor(0.10, 5)), 5)   # memory: compound-interest tables, (A/P, 10 %, 5)
     0.2638
     """
     i = np.asarray(rate, dtype=float)

@@ -81,7 +81,7 @@ def cmd_floor(args) -> int:
     """``desal floor``: least work and osmotic pressure of one feed."""
     from .present import CAUTION
     from .present.tables import markdown_report, print_tables, rich_table
-    from .thermo.activity import get_model
+    from .thermo.activity import get_model, is_out_of_range
     from .thermo.brine import mass_fraction_from_concentration
     from .thermo.floor import floor_record
     from .units import parse_salinity, parse_temperature
@@ -114,7 +114,7 @@ def cmd_floor(args) -> int:
     single = r.size == 1
     rec = floor_record(model, S_f, T, float(r[0]) if single else r, S_p)
     if args.strict:
-        range_warnings = [w for w in rec["warnings"] if "outside the validated range" in w]
+        range_warnings = [w for w in rec["warnings"] if is_out_of_range(w)]
         if range_warnings:
             raise StrictError(f"--strict: {range_warnings[0]}")
     rec["notice"] = CAUTION
@@ -206,19 +206,19 @@ def cmd_compare(args) -> int:
         for r in results:
             check_strict(r)
     payloads = [_payload(r) for r in results]
-    csv_rows = [dict(scenario=p["scenario"], **rec) for p in payloads for rec in p["results"]]
+    csv_text = to_csv([dict(scenario=p["scenario"], **rec) for p in payloads for rec in p["results"]])
     json_text = to_json(payloads[0] if len(payloads) == 1 else payloads)
     md_text = "\n".join(markdown_compare(p) for p in payloads)
     saved = None
     if not args.no_save:
-        files = {"results.json": json_text, "results.csv": to_csv(csv_rows), "report.md": md_text,
+        files = {"results.json": json_text, "results.csv": csv_text, "report.md": md_text,
                  "run.json": to_json(run_record(scenarios, ["desal", "compare", *args.argv]))}
         label = scenarios[0].name if len(scenarios) == 1 else f"{len(scenarios)}-scenarios"
         saved = write_run(Path(args.out or "results"), label, files)
     if args.format == "json":
         sys.stdout.write(json_text)
     elif args.format == "csv":
-        sys.stdout.write(to_csv(csv_rows))
+        sys.stdout.write(csv_text)
     elif args.format == "markdown":
         sys.stdout.write(md_text)
     else:
@@ -262,6 +262,14 @@ def _show_value(v):
 
 
 # ------------------------------------------------------------------------------------------------------ parser
+def _scenario_arguments(p: argparse.ArgumentParser) -> None:
+    """The arguments every command that reads scenario files takes."""
+    p.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
+    p.add_argument("--set", action="append", metavar="K=V",
+                   help='override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)')
+    p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+
+
 def build_parser() -> argparse.ArgumentParser:
     p = _Parser(prog="desal", description="Desalination energy comparator: the thermodynamic floor and the energy, "
                                           "cost and emissions of RO, MED and FO for a site. Screening estimates.")
@@ -289,10 +297,7 @@ def build_parser() -> argparse.ArgumentParser:
     c = sub.add_parser("compare", help="compare every enabled technology for one or more scenario files",
                        description="Evaluate every enabled technology for each scenario on the same assumptions and "
                                    "print them side by side. Saves a new folder under results/ unless --no-save.")
-    c.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
-    c.add_argument("--set", action="append", metavar="K=V",
-                   help='override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)')
-    c.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    _scenario_arguments(c)
     c.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
     c.add_argument("--no-save", action="store_true", help="print only; write no files")
     c.add_argument("--strict", action="store_true", help="refuse values outside a model's validated range")
@@ -301,9 +306,7 @@ def build_parser() -> argparse.ArgumentParser:
     k = sub.add_parser("check", help="validate scenario files and print every resolved value with its source",
                        description="Validate scenario files and print the resolved scenario, each default with its "
                                    "source. Writes nothing.")
-    k.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
-    k.add_argument("--set", action="append", metavar="K=V", help="override a scenario key (repeatable)")
-    k.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    _scenario_arguments(k)
     k.set_defaults(func=cmd_check)
 
     m = sub.add_parser("models", help="list property and technology models with validity and references",

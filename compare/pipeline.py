@@ -15,7 +15,7 @@ from . import accounting as acc
 from .errors import InputError
 from .scenario import FEED_TEMPERATURE, Scenario
 from .tech.base import TECHNOLOGIES, Feed, Performance
-from .thermo.activity import get_model, range_flags
+from .thermo.activity import get_model, is_out_of_range, out_of_range_text, range_flags
 from .thermo.constants import J_PER_KWH
 from .thermo.floor import evaluate_floor, least_work
 
@@ -49,6 +49,7 @@ class RunResult:
     floor_warnings: list    # per case: list of str
     technologies: tuple     # TechResult, in registry order
     varied: dict            # dotted key -> (N,) array of SI values
+    model: str              # name of the feed's water activity model
 
     def records(self, case: int = 0) -> list[dict]:
         """The contract records of one case, one per technology."""
@@ -60,15 +61,10 @@ class RunResult:
             "water_activity": f["water_activity"],
             "osmotic_pressure_bar": f["osmotic_pressure"] / 1e5,
             "least_work_kwh_per_m3_zero_recovery": f["least_work_zero_recovery"] / J_PER_KWH,
-            "model": self.scenario_model_name,
+            "model": self.model,
             "feed_salinity_g_per_kg": f["salinity"] * 1e3,
             "feed_temperature_c": f["temperature"] - 273.15,
         }
-
-    @property
-    def scenario_model_name(self) -> str:
-        feed = self.scenario.values["feed"]
-        return feed["model"] or {"seawater": "teos10", "nacl": "pitzer-nacl", "ions": "phreeqc"}[feed["water"]]
 
     def warnings(self, case: int = 0) -> list[str]:
         out = list(self.floor_warnings[case])
@@ -118,7 +114,8 @@ def _value(scenario: Scenario, varied: dict, dotted: str, n: int):
     return scenario.get(dotted)
 
 
-def _texts(masks: dict, n: int, M: int, weights_shape) -> list[list[str]]:
+def _texts(masks: dict, n: int, M: int) -> list[list[str]]:
+    """Per case, the texts whose mask holds in any period."""
     out = [[] for _ in range(n)]
     for text, mask in masks.items():
         m = np.broadcast_to(np.asarray(mask, dtype=bool), (n, M)).any(axis=1)
@@ -163,14 +160,13 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
              "least_work_zero_recovery": per_case(fl.least_work_zero_recovery), "salinity": per_case(S_f),
              "temperature": per_case(T)}
     ff = range_flags(model, S_f, T)
-    v = model.validity
     floor_masks = {
-        f"feed salinity is outside the validated range of model {model.name} ({v.describe()})": ff["salinity"],
-        f"feed temperature is outside the validated range of model {model.name} ({v.describe()})": ff["temperature"],
+        out_of_range_text("feed salinity", model): ff["salinity"],
+        out_of_range_text("feed temperature", model): ff["temperature"],
     }
     if model.simplification:
         floor_masks[f"model {model.name} is a simplification for comparison only"] = np.ones((n, M), bool)
-    floor_warnings = _texts(floor_masks, n, M, None)
+    floor_warnings = _texts(floor_masks, n, M)
 
     feed = Feed(model, water, S_f, T, S_p_target, T_heat, grid(get("site.capacity")))
     en = scenario.values["energy"]
@@ -188,10 +184,8 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         tech = TECHNOLOGIES[name]
         params = {k: _value(scenario, varied, f"{name}.{k}", n) for k in tech.parameters}
         perf: Performance = tech.evaluate(feed, params)
-        shape = (n, M)
-        b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape)  # noqa: E731
-        e, q, Th = b(perf.electricity), b(perf.heat), b(perf.heat_temperature)
-        r, Sp, Sb = b(perf.recovery), b(perf.product_salinity), b(perf.brine_salinity)
+        e, q, Th = grid(perf.electricity), grid(perf.heat), grid(perf.heat_temperature)
+        r, Sp, Sb = grid(perf.recovery), grid(perf.product_salinity), grid(perf.brine_salinity)
         uses_heat = q > 0
         if en["heat_to_work"] == "exergy":
             phi = acc.exergy_factor(np.where(uses_heat, Th, 1000.0), T0)
@@ -202,15 +196,12 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         lw = least_work(model, S_f, T, np.clip(r, 0.0, 0.999), np.minimum(Sp, S_f * 0.999), water)
         infeasible = dict(perf.infeasible)
         too_cold = uses_heat & (Th > T_heat + 1e-9)
-        site_heat_c = float(np.ravel(T_heat)[0]) - 273.15
-        infeasible[f"needs heat above the site's heat temperature (energy.heat_temperature = "
-                   f"{site_heat_c:.4g} degC)"] = too_cold
+        infeasible["needs heat hotter than the site supplies (energy.heat_temperature)"] = too_cold
         flags = dict(perf.flags)
-        flags[f"product salinity above the target (product.salinity)"] = Sp > S_p_target * (1 + 1e-9)
+        flags["product salinity above the target (product.salinity)"] = Sp > S_p_target * (1 + 1e-9)
         bf = range_flags(model, Sb, T)
-        flags[f"brine salinity is outside the validated range of model {model.name} ({v.describe()})"] = \
-            bf["salinity"] & ~ff["salinity"]
-        feasible_nm = np.broadcast_to(perf.feasible, shape) & ~too_cold
+        flags[out_of_range_text("brine salinity", model)] = bf["salinity"] & ~ff["salinity"]
+        feasible_nm = np.broadcast_to(perf.feasible, (n, M)) & ~too_cold
         feasible = feasible_nm.all(axis=1)
 
         e_y, q_y, we_y, lw_y = per_case(e), per_case(q), per_case(work_eq), per_case(lw)
@@ -218,7 +209,6 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         cost = acc.levelized_cost(capital, case(params["fixed_om"]), annual_production, crf, e_y,
                                   case(get("energy.electricity_price")), q_y, case(get("energy.heat_price")))
         emissions = e_y * case(get("energy.electricity_emissions")) + q_y * case(get("energy.heat_emissions"))
-        cap_flow = capacity
         with np.errstate(invalid="ignore", divide="ignore"):
             arrays = {
                 "recovery": per_case(r), "product_salinity": per_case(Sp), "brine_salinity": per_case(Sb),
@@ -226,23 +216,23 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
                 "heat_temperature": np.where(uses_heat.any(axis=1), np.where(uses_heat, Th, -np.inf).max(axis=1),
                                              np.nan),
                 "work_equivalent": we_y, "least_work": lw_y, "second_law_efficiency": lw_y / we_y,
-                "power": e_y * cap_flow, "heat_rate": q_y * cap_flow,
+                "power": e_y * capacity, "heat_rate": q_y * capacity,
                 "annual_electricity": e_y * annual_production, "annual_heat": q_y * annual_production,
                 "emissions": emissions, "annual_emissions": emissions * annual_production,
                 "lcow": cost["total"], **{f"lcow_{k}": cost[k] for k in ("capital", "fixed_om", "electricity", "heat")},
                 "annual_production": annual_production.astype(float),
             }
         details = {k: per_case(np.asarray(val, dtype=float)) for k, val in perf.details.items()}
-        warns = _texts({f"infeasible: {k}": m for k, m in infeasible.items()}, n, M, None)
-        for i, extra_w in enumerate(_texts(flags, n, M, None)):
+        warns = _texts({f"infeasible: {k}": m for k, m in infeasible.items()}, n, M)
+        for i, extra_w in enumerate(_texts(flags, n, M)):
             warns[i] += extra_w
         results.append(TechResult(name, arrays, details, feasible, warns))
-    return RunResult(scenario, n, floor, floor_warnings, tuple(results), varied)
+    return RunResult(scenario, n, floor, floor_warnings, tuple(results), varied, model.name)
 
 
 def check_strict(result: RunResult) -> None:
     """Raise if any out-of-range flag was raised (``--strict``)."""
     for i in range(result.n_cases):
         for w in result.warnings(i):
-            if "outside the validated range" in w or "extrapolated" in w:
+            if is_out_of_range(w):
                 raise InputError(f"--strict: {result.scenario.name}: {w}")

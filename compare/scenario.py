@@ -80,6 +80,8 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
     },
 }
 
+_GSD = Spec("fraction", None, "", expect="a geometric standard deviation above 1, e.g. 1.2", lo=1.0, lo_open=True)
+_TEMPERATURE_SPREAD = Spec("quantity", None, "", "K", 'a temperature difference such as "2 K"', lo=0.0)
 DISTRIBUTIONS = {"triangular": ("low", "mode", "high"), "uniform": ("low", "high"), "normal": ("mean", "sd"),
                  "lognormal": ("median", "gsd")}
 
@@ -264,17 +266,25 @@ def _cross_checks(values, label, errors):
     model = feed.get("model")
     if model and water:
         from .thermo.activity import get_model
-        if model == "phreeqc" and water != "ions":
+        if water == "ions":
+            if model not in ("phreeqc", "ideal", "vant-hoff"):
+                errors.append(f'{label}: feed.model: expected phreeqc, ideal or vant-hoff for water = "ions", '
+                              f"got {model!r}")
+        elif model == "phreeqc":
             errors.append(f'{label}: feed.model: phreeqc needs feed.water = "ions", got water = "{water}"')
-        elif model != "phreeqc":
+        else:
             try:
                 get_model(model, water)
             except InputError as exc:
                 errors.append(f"{label}: feed.model: {exc}")
     ions = feed.get("ions")
     if water == "ions" and ions:
+        from .thermo.brine import density
         from .thermo.phreeqc import IONS
         from .units import parse_salinity
+        # only the ratios matter: a concentration (mg/L) becomes a mass fraction with the feed's density
+        rho = float(density(S_f, float(np.mean(feed["temperature"])), "ions")) \
+            if S_f is not None and feed.get("temperature") is not None else 1000.0
         parsed = {}
         for ion, raw in ions.items():
             if ion not in IONS:
@@ -282,9 +292,11 @@ def _cross_checks(values, label, errors):
                               f"{', '.join(IONS)}")
                 continue
             try:
-                parsed[ion] = parse_salinity(raw, where=f"{label}: feed.ions.{ion}")[1]
+                kind, value = parse_salinity(raw, where=f"{label}: feed.ions.{ion}")
             except InputError as exc:
                 errors.append(str(exc))
+                continue
+            parsed[ion] = value / rho if kind == "concentration" else value
         feed["ions"] = parsed
 
 
@@ -313,17 +325,17 @@ def _uncertainty(raw, specs, label, errors, ctx) -> dict:
         kind = kinds[0]
         try:
             if kind == "lognormal":
-                params = {"median": parse_value(spec, dist["median"], f"{where}.median", **ctx),
-                          "gsd": float(dist["gsd"])}
+                gsd = parse_value(_GSD, dist["gsd"], f"{where}.gsd")
+                params = {"median": parse_value(spec, dist["median"], f"{where}.median", **ctx), "gsd": gsd}
             elif kind == "normal":
                 mean = parse_value(spec, dist["mean"], f"{where}.mean", **ctx)
-                sd_spec = Spec(spec.kind, None, "", spec.unit, spec.expect)
-                sd = parse_value(sd_spec, dist["sd"], f"{where}.sd", **ctx) if spec.kind != "temperature" else \
-                    float(str(dist["sd"]).split()[0])
-                params = {"mean": mean, "sd": sd}
+                # a spread is a difference: a temperature's is in K, others keep their kind without bounds
+                sd_spec = _TEMPERATURE_SPREAD if spec.kind in ("temperature", "temperatures") else \
+                    Spec(spec.kind, None, "", spec.unit, spec.expect)
+                params = {"mean": mean, "sd": parse_value(sd_spec, dist["sd"], f"{where}.sd", **ctx)}
             else:
                 params = {f: parse_value(spec, dist[f], f"{where}.{f}", **ctx) for f in DISTRIBUTIONS[kind]}
-        except (InputError, ValueError) as exc:
+        except InputError as exc:
             errors.append(str(exc))
             continue
         if kind == "triangular" and not params["low"] <= params["mode"] <= params["high"]:

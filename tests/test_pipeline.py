@@ -117,7 +117,7 @@ def test_site_heat_too_cold_is_infeasible(toy):
     s = scenario(toy={"heat": "10 kWh/m^3", "heat_temperature": "90 degC"}, energy={"heat_temperature": "80 degC"})
     rec = evaluate(s).records()[0]
     assert rec["feasible"] is False
-    assert any("needs heat above the site's heat temperature" in w for w in rec["warnings"])
+    assert any("needs heat hotter than the site supplies" in w for w in rec["warnings"])
 
 
 def test_unit_round_trip(toy):

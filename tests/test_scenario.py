@@ -138,3 +138,39 @@ def test_demo_scenarios_are_valid_and_fictional():
         s = load(f)
         assert "fictional" in s.name.lower()
         assert "FICTIONAL" in f.read_text().splitlines()[0]
+
+
+def test_ion_composition_in_mixed_units_and_simplified_model(tmp_path):
+    # only the ion ratios matter; mg/L entries are turned into mass fractions with the feed density, so a mixed
+    # table equals the same table in g/kg. "ideal" works for an ion composition without PHREEQC.
+    from compare.pipeline import evaluate
+    from compare.thermo.brine import density
+    rho = float(density(0.005, 293.15, "ions"))
+    base = ('name = "Salt Flat wells (fictional)"\n[site]\ncapacity = "2000 m^3/day"\n[feed]\nwater = "ions"\n'
+            'salinity = "5 g/kg"\ntemperature = "20 degC"\nmodel = "ideal"\n')
+    mixed = tmp_path / "mixed.toml"
+    mixed.write_text(base + 'ions = { Na = "1400 mg/L", Cl = "2 g/kg" }\n')
+    same = tmp_path / "same.toml"
+    same.write_text(base + f'ions = {{ Na = "{1.4 / rho * 1e3} g/kg", Cl = "2 g/kg" }}\n')
+    a, b = load(mixed), load(same)
+    assert a.values["feed"]["ions"] == pytest.approx(b.values["feed"]["ions"], rel=1e-12)
+    assert evaluate(a).floor_record()["water_activity"] == pytest.approx(
+        evaluate(b).floor_record()["water_activity"], rel=1e-12)
+    assert evaluate(a).floor_record()["model"] == "ideal"
+
+
+def test_uncertainty_spreads_have_units(tmp_path):
+    path = tmp_path / "u.toml"
+    path.write_text(GOOD + '[uncertainty]\n"feed.salinity" = { mean = "35 g/kg", sd = "1 g/kg" }\n'
+                    '"site.availability" = { median = "0.9", gsd = "1.05" }\n')
+    # a temperature's spread is a difference in K, its mean a temperature
+    text = GOOD + '[uncertainty]\n"energy.heat_temperature" = { mean = "110 degC", sd = "5 K" }\n'
+    (tmp_path / "t.toml").write_text(text)
+    u = load(path).uncertainty
+    assert u["feed.salinity"]["sd"] == pytest.approx(0.001)
+    assert u["site.availability"]["gsd"] == pytest.approx(1.05)
+    t = load(tmp_path / "t.toml").uncertainty["energy.heat_temperature"]
+    assert t["mean"] == pytest.approx(383.15) and t["sd"] == pytest.approx(5.0)
+    (tmp_path / "bad.toml").write_text(GOOD + '[uncertainty]\n"site.availability" = { median = "0.9", gsd = "x" }\n')
+    with pytest.raises(InputErrors, match=r"uncertainty.site.availability.gsd: expected a geometric standard"):
+        load(tmp_path / "bad.toml")

@@ -369,6 +369,9 @@ def _particle_mass(water: str, extra: dict) -> float:
         return PARTICLE_MOLAR_MASS[water]
     if "particle_molar_mass" in extra:
         return extra["particle_molar_mass"]
+    if "composition" in extra:
+        from .phreeqc import particle_molar_mass
+        return particle_molar_mass(extra["composition"])
     raise InputError(f"water {water!r} needs an ion composition for this model")
 
 
@@ -421,6 +424,19 @@ def get_model(name: str | None, water: str, **extra) -> ActivityModel:
     if name not in MODELS:
         raise InputError(f"expected a model among {', '.join(MODELS)}, got {name!r}")
     return MODELS[name](water, **extra)
+
+
+OUT_OF_RANGE = "is outside the validated range of model"
+
+
+def out_of_range_text(what: str, model: ActivityModel) -> str:
+    """The one wording of an out-of-range warning; :func:`is_out_of_range` recognises it (``--strict``)."""
+    return f"{what} {OUT_OF_RANGE} {model.name} ({model.validity.describe()}); the value is extrapolated"
+
+
+def is_out_of_range(warning: str) -> bool:
+    """True for a warning made by :func:`out_of_range_text`."""
+    return OUT_OF_RANGE in warning
 
 
 def range_flags(model: ActivityModel, S, T) -> dict[str, np.ndarray]:

@@ -26,7 +26,7 @@ import numpy as np
 
 from . import brine as _brine
 from . import water as _water
-from .activity import ActivityModel, range_flags
+from .activity import ActivityModel, out_of_range_text, range_flags
 from .constants import J_PER_KWH, R
 
 
@@ -131,17 +131,14 @@ def floor_warnings(model: ActivityModel, floor: Floor, S_f, T) -> list[str]:
     T = np.asarray(T, dtype=float)
     if floor.flags["feed_salinity"].any():
         worst = float(np.max(np.where(floor.flags["feed_salinity"], S_f, -np.inf)))
-        out.append(f"feed salinity {worst * 1e3:.4g} g/kg is outside the validated range of model {model.name} "
-                   f"({v.describe()}); the value is extrapolated")
+        out.append(out_of_range_text(f"feed salinity {worst * 1e3:.4g} g/kg", model))
     if floor.flags["brine_salinity"].any():
         worst = float(np.max(np.where(floor.flags["brine_salinity"], floor.brine_salinity, -np.inf)))
-        out.append(f"brine salinity {worst * 1e3:.4g} g/kg is outside the validated range of model {model.name} "
-                   f"({v.describe()}); the value is extrapolated")
+        out.append(out_of_range_text(f"brine salinity {worst * 1e3:.4g} g/kg", model))
     if floor.flags["temperature"].any():
         bad = np.broadcast_to(T, floor.flags["temperature"].shape)[floor.flags["temperature"]]
         t_c = float(bad[np.argmax(np.abs(bad - (v.temperature_min + v.temperature_max) / 2))]) - 273.15
-        out.append(f"temperature {t_c:.4g} degC is outside the validated range of model {model.name} "
-                   f"({v.describe()}); the value is extrapolated")
+        out.append(out_of_range_text(f"temperature {t_c:.4g} degC", model))
     if model.simplification:
         out.append(f"model {model.name} is a simplification for comparison only, not a property model for design")
     return out

@@ -71,6 +71,12 @@ def _normalise(composition: dict[str, float]) -> dict[str, float]:
     return {k: v / total for k, v in composition.items() if v > 0}
 
 
+def particle_molar_mass(composition: dict[str, float]) -> float:
+    """Mean molar mass of the solute particles [kg/mol] of a composition (ion -> mass fraction, any scale)."""
+    shares = _normalise(composition)
+    return 1.0 / sum(w / IONS[k][0] for k, w in shares.items())
+
+
 def _run(shares: dict[str, float], S, T):
     """phi and a_w from PHREEQC for each (S, T) pair."""
     ip = _phreeqc()
@@ -92,8 +98,7 @@ def phreeqc_model(composition: dict[str, float]) -> ActivityModel:
     from scipy.interpolate import RectBivariateSpline
 
     shares = _normalise(composition)
-    moles_per_kg_salt = sum(w / IONS[k][0] for k, w in shares.items())
-    M = 1.0 / moles_per_kg_salt           # mean molar mass of particles [kg/mol]
+    M = particle_molar_mass(composition)    # mean molar mass of particles [kg/mol]
     charge = sum(w / IONS[k][0] * IONS[k][1] for k, w in shares.items())
     gross = sum(w / IONS[k][0] * abs(IONS[k][1]) for k, w in shares.items())
     imbalance = abs(charge) / gross
