@@ -1,0 +1,414 @@
+"""Reverse osmosis: spiral-wound pressure vessels in 1-3 stages, solution-diffusion transport with film-model
+concentration polarisation, marched along the flow path, in design mode (recovery and average flux given; feed
+pressure and membrane area solved), vectorised over every case at once.
+
+Model
+-----
+Per unit of membrane area (solution-diffusion: Wijmans & Baker 1995; film model: e.g. Mulder 1996, ch. VII):
+
+    J_w = A(T) (dP - (Pi(S_m) - Pi(S_p)))          water flux [m/s]
+    S_m = S_p + (S_b - S_p) exp(J_w / k)            membrane-wall salinity (film model)
+    J_s = B(T) (S_m - S_p),  S_p = J_s / J_w        local permeate (so S_p = B S_m / (J_w + B))
+
+with Pi from the feed's own water activity model (the core of the floor, through the bounded
+:class:`~compare.thermo.floor.OsmoticTable`). Salinities are mass fractions; the film model is written on them
+(density differences between wall and bulk are neglected, as is usual). The local flux is solved by Newton's method.
+
+The vessel train is marched in equal steps of permeate (recovery), not of area: the area a step needs is its permeate
+over the log-mean of the flux at its two ends, exact when the net driving pressure is linear across the step and
+infinite when it reaches zero, so the march honours the thermodynamic restriction (the applied pressure must exceed
+the concentrate's osmotic pressure at the outlet) at any step size, and stays stable as the membrane becomes very
+permeable. Water and salt balances are kept step by step. Stage areas follow the usual tapered array (2:1, 4:2:1);
+pressure falls by ``pressure_drop_per_element`` per element along each vessel; an optional booster raises the
+pressure at the inlet of stages 2 and 3. The feed pressure that makes the needed area equal the design area
+(capacity / average flux) is found by the Illinois variant of regula falsi, bracketed, for all cases at once; a
+case leaves the loop as soon as it has converged.
+
+Temperature: A(T) = A_25 exp(2640 K (1/298.15 K - 1/T)), B likewise (from memory: the exponential
+temperature-correction factor in the form membrane suppliers publish; no source at hand).
+
+Energy (per m^3 of permeate, from gauge pressures and specific volumes): high-pressure pump and motor; energy recovery
+as an isobaric exchanger (equal volumes of brine and raw feed swapped, the feed leaving at efficiency x brine pressure,
+a booster pump making up the rest, and volumetric mixing that raises the membrane feed salinity to
+S_f (1 - x (1 - r)) / (1 - x)), a turbine on the pump shaft, or none; interstage boosters; and other plant electricity
+(intake, pretreatment, post-treatment), reported separately in ``details``.
+
+Limits (each makes the case infeasible, with its reason): the feed pressure needed is above ``max_pressure``; at
+``max_pressure`` the net driving pressure falls to zero before the end of the vessel (thermodynamic restriction); the
+lead element's average flux is above ``max_lead_flux``; the membrane brine is outside the activity model's validated
+range. A permeate above the product target is flagged by the pipeline.
+
+References
+----------
+Wijmans, J. G. and Baker, R. W. (1995), The solution-diffusion model: a review, J. Membr. Sci. 107, 1-21.
+Mulder, M. (1996), Basic Principles of Membrane Technology, 2nd ed., Kluwer (film model).
+Zhu, A., Christofides, P. D. and Cohen, Y. (2009), Effect of thermodynamic restriction on energy cost optimization of
+RO membrane water desalination, Ind. Eng. Chem. Res. 48, 6010-6021.
+Li, M. (2010), Minimization of energy in reverse osmosis water desalination using constrained nonlinear
+optimization, Ind. Eng. Chem. Res. 49, 1822-1831.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..schema import Spec, efficiency
+from ..thermo import brine as _brine
+from ..thermo.floor import osmotic_table
+from .base import Feed, Performance, Technology, register
+
+LMH = 1e-3 / 3600.0            # 1 L/(m^2 h) in m/s
+BAR = 1e5
+TEMPERATURE_EXPONENT = 2640.0  # [K], membrane temperature correction (from memory, supplier form)
+P_SEARCH_MAX = 400e5           # [Pa] upper end of the feed-pressure search
+S_CAP = 0.34                   # [kg/kg] wall salinities are capped here (inside the osmotic table) during the search
+
+PARAMETERS = {
+    "recovery": Spec("fraction", "0.45", "practice: seawater RO, 40-50 %", expect="a mass recovery in (0, 1)",
+                     lo=0.0, hi=1.0, lo_open=True, hi_open=True),
+    "stages": Spec("count", "1", "practice: one stage for seawater, two or three for brackish water",
+                   expect="a number of stages 1, 2 or 3", lo=1, hi=3),
+    "flux": Spec("quantity", "14 L/m^2/h", "practice: seawater design flux 12-15 L/m2/h (CHECKS.md)", "m/s",
+                 'an average flux such as "14 L/m^2/h"', lo=0.0, lo_open=True),
+    "water_permeability": Spec("quantity", "1.0 L/m^2/h/bar", "from memory: seawater elements, about 1 L/m2/h/bar "
+                               "at 25 degC", "m/s/Pa", 'a permeability such as "1.0 L/m^2/h/bar"', lo=0.0,
+                               lo_open=True),
+    "salt_permeability": Spec("quantity", "0.03 L/m^2/h", "from memory: about 99.8 % rejection at design flux",
+                              "m/s", 'a salt permeability such as "0.03 L/m^2/h"', lo=0.0),
+    "mass_transfer_coefficient": Spec("quantity", "2e-5 m/s", "from memory: spiral-wound feed channels, 1-4e-5 m/s",
+                                      "m/s", 'a mass transfer coefficient such as "2e-5 m/s"', lo=0.0, lo_open=True),
+    "elements_per_vessel": Spec("count", "7", "practice: 6-8 elements per vessel",
+                                expect="a number of elements 1-8", lo=1, hi=8),
+    "element_area": Spec("quantity", "37 m^2", "practice: 8-inch element, 400 ft2", "m^2",
+                         'an element area such as "37 m^2"', lo=0.0, lo_open=True),
+    "pressure_drop_per_element": Spec("quantity", "0.3 bar", "from memory: 0.2-0.4 bar per element", "Pa",
+                                      'a pressure drop such as "0.3 bar"', lo=0.0),
+    "max_pressure": Spec("quantity", "82.7 bar", "practice: standard seawater element limit (CHECKS.md)", "Pa",
+                         'a pressure such as "82.7 bar"', lo=0.0, lo_open=True),
+    "max_lead_flux": Spec("quantity", "35 L/m^2/h", "from memory: a common limit on the lead element's average flux",
+                          "m/s", 'a flux such as "35 L/m^2/h"', lo=0.0, lo_open=True),
+    "booster_pressure": Spec("quantity", "0 bar", "default: no interstage booster", "Pa",
+                             'a pressure such as "5 bar"', lo=0.0),
+    "pump_efficiency": efficiency("0.85", "practice: high-pressure pump 80-88 % (CHECKS.md)"),
+    "motor_efficiency": efficiency("0.95", "practice: large induction motor"),
+    "energy_recovery": Spec("choice", "isobaric", "practice: isobaric exchangers in seawater RO",
+                            choices=("isobaric", "turbine", "none")),
+    "energy_recovery_efficiency": efficiency("0.96", "practice: isobaric exchanger 94-98 % (CHECKS.md)"),
+    "energy_recovery_mixing": Spec("fraction", "0.03", "from memory: isobaric exchanger volumetric mixing, 2-6 %",
+                                   expect="a mixing fraction in [0, 0.5)", lo=0.0, hi=0.5, hi_open=True),
+    "other_electricity": Spec("quantity", "0.8 kWh/m^3", "practice: intake, pretreatment and post-treatment of a "
+                              "seawater plant (whole plant 3-4 kWh/m3, CHECKS.md)", "J/m^3",
+                              'an energy per volume such as "0.8 kWh/m^3"', lo=0.0),
+    "segments": Spec("count", "20", "numerics: permeate steps per stage (0.1 % convergence, tested)",
+                     expect="a number of segments 4-400", lo=4, hi=400),
+    "capital_cost": Spec("money", "1200 USD/(m^3/day)", "from memory: seawater RO plants, about 1000-1500 USD per "
+                         "m3/day", "day/m^3", 'a cost per capacity such as "1200 USD/(m^3/day)"', lo=0.0),
+    "fixed_om": Spec("fraction", "0.03", "practice: fixed O&M about 2-4 % of capital per year",
+                     expect='a share of capital per year such as 0.03 or "3 %"', lo=0.0, hi=1.0),
+}
+
+#: share of the membrane area in each stage (the usual tapered arrays)
+STAGE_SHARES = {1: (1.0,), 2: (2 / 3, 1 / 3), 3: (4 / 7, 2 / 7, 1 / 7)}
+
+
+def temperature_factor(T):
+    """Membrane permeability factor exp(2640 K (1/298.15 K - 1/T)) [-] (from memory, supplier form)."""
+    return np.exp(TEMPERATURE_EXPONENT * (1 / 298.15 - 1 / np.asarray(T, dtype=float)))
+
+
+def local_flux(dP, S_b, T, A, B, k, pi, J0=None, iterations=4):
+    """Water flux J_w [m/s] and permeate salinity [kg/kg] at applied pressure difference dP [Pa] over a bulk of
+    salinity S_b, solved by Newton's method (finite-difference slope), vectorised.
+
+    ``pi(S, T)`` gives the osmotic pressure [Pa]; ``k = inf`` means no polarisation, ``B = 0`` full rejection.
+    Where the driving force is not positive the flux is 0. ``J0`` is a starting value (the previous step's flux).
+    """
+    S_b = np.minimum(S_b, S_CAP)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        inv_k = np.where(np.isinf(k), 0.0, 1.0 / k)
+
+        def resid(J):
+            cp = np.exp(np.minimum(J * inv_k, 30.0))
+            f = B / (J + B + 1e-300)                        # S_p = f S_m
+            S_m = np.minimum(S_b * cp / (1 - f + f * cp), S_CAP)
+            S_p = f * S_m
+            return J - A * (dP - pi(S_m, T) + pi(S_p, T)), S_p
+
+        ndp0 = dP - pi(S_b, T)
+        J = np.maximum(A * ndp0, 0.0) if J0 is None else np.minimum(J0, np.maximum(A * ndp0, 0.0))
+        J = np.maximum(J, 1e-13)
+        for _ in range(iterations):
+            r, _ = resid(J)
+            h = np.maximum(1e-7 * J, 1e-14)
+            d = (resid(J + h)[0] - r) / h
+            J = np.maximum(J - r / np.where(d > 0, d, 1.0), 1e-13)
+        r, S_p = resid(J)
+        off = ndp0 <= 0
+    return np.where(off, 0.0, J), np.where(off, S_b, S_p)
+
+
+def _log_mean_inverse(J0, J1):
+    """Mean of 1/J over a step where J varies linearly in the permeate: ln(J0/J1)/(J0 - J1); inf where J1 = 0."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = J1 / J0
+        near = np.abs(ratio - 1) < 1e-6
+        lm = np.where(near, 2.0 / (J0 + J1), np.log(J0 / J1) / (J0 - J1))
+    return np.where((J1 <= 0) | (J0 <= 0), np.inf, lm)
+
+
+def _march(P_feed, c, shares, n_seg, full=False):
+    """March the vessel train from the membrane feed to recovery ``c["r"]`` in equal steps of permeate, at feed
+    pressure P_feed (gauge) [Pa], per kg/s of membrane feed.
+
+    Returns ``x``, the area needed as a fraction of the design area (inf where the driving force vanishes first) and,
+    with ``full``, the rest of the profile: permeate salt, brine salinity and pressure, per-stage permeate and salt,
+    and the lead element's average flux.
+    """
+    n_st = len(shares)
+    cum = np.cumsum((0.0,) + tuple(shares))
+    share = np.asarray(shares)
+    T, A, B, k, pi = c["T"], c["A"], c["B"], c["k"], c["pi"]
+    drop_stage = c["n_elem"] * c["dp_elem"]
+    boost = c["boost"]
+    scale = c["v_p"] / c["area_per_feed"]          # area fraction per kg of permeate at unit flux
+
+    def pressure(x):
+        s = np.clip(np.searchsorted(cum, x, side="right") - 1, 0, n_st - 1)
+        frac = np.clip((x - cum[s]) / share[s], 0.0, 1.0)
+        return P_feed - drop_stage * (s + frac) + boost * s, s
+
+    steps = n_seg * n_st
+    dm = c["r"] / steps
+    Q = np.ones_like(P_feed)
+    salt = c["S_in"].copy()
+    x = np.zeros_like(P_feed)
+    J0, Sp0 = local_flux(P_feed, salt, T, A, B, k, pi, iterations=8)
+    if full:
+        xs, ms, cs = [x], [np.zeros_like(P_feed)], [np.zeros_like(P_feed)]
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for j in range(steps):
+            x_pred = np.minimum(x + dm * scale / np.maximum(J0, 1e-300), cum[-1])
+            P1, _ = pressure(x_pred)
+            S_b1 = (salt - dm * Sp0) / (Q - dm)
+            J1, Sp1 = local_flux(P1, S_b1, T, A, B, k, pi, J0)
+            x = x + dm * scale * _log_mean_inverse(J0, J1)
+            Q = Q - dm
+            salt = salt - dm * 0.5 * (Sp0 + Sp1)
+            J0, Sp0 = J1, Sp1
+            if full:
+                xs.append(x)
+                ms.append(np.full_like(x, dm * (j + 1)))
+                cs.append(c["S_in"] - salt)
+    if not full:
+        return x
+    P_b, _ = pressure(np.minimum(x, cum[-1]))
+    xs, ms, cs = np.array(xs), np.array(ms), np.array(cs)
+    perm_salt = cs[-1]
+    # permeate and its salt up to each stage boundary and the end of the lead element (the first 1/n_elem of stage
+    # 1's area), by linear interpolation along the march
+    m_at = [_along(xs, ms, np.full_like(x, cum[si])) for si in range(1, n_st)] + [ms[-1]]
+    c_at = [_along(xs, cs, np.full_like(x, cum[si])) for si in range(1, n_st)] + [cs[-1]]
+    st_perm = np.diff(np.array([np.zeros_like(x)] + m_at), axis=0)
+    st_salt = np.diff(np.array([np.zeros_like(x)] + c_at), axis=0)
+    x_lead = share[0] / c["n_elem"]
+    lead = _along(xs, ms, np.full_like(x, x_lead)) * c["v_p"] / (x_lead * c["area_per_feed"])
+    return dict(x=x, perm_salt=perm_salt, S_b=salt / Q, P_b=P_b, st_perm=st_perm, st_salt=st_salt, lead=lead)
+
+
+def _along(xs, ys, x_target):
+    """ys (steps+1 x cases) at area fraction x_target, interpolated linearly along the march (x increasing)."""
+    idx = np.clip(np.argmax(xs >= x_target, axis=0), 1, xs.shape[0] - 1)
+    cols = np.arange(xs.shape[1])
+    xa, xb, ya, yb = xs[idx - 1, cols], xs[idx, cols], ys[idx - 1, cols], ys[idx, cols]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        w = np.where(np.isfinite(xb) & (xb > xa), (x_target - xa) / (xb - xa), 0.0)
+    return ya + (yb - ya) * np.clip(w, 0.0, 1.0)
+
+
+def _g(x):
+    """Search function of the feed pressure: 1/x - 1, increasing, continuous (-1 where the area is infinite)."""
+    with np.errstate(divide="ignore"):
+        return np.where(np.isfinite(x), 1.0 / x, 0.0) - 1.0
+
+
+def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
+    """Feed pressure [Pa] at which the needed membrane area equals the design area, for all cases at once.
+    Returns (P, reachable): reachable is False where no pressure up to :data:`P_SEARCH_MAX` suffices."""
+    n = c["S_in"].size
+
+    def sub(idx):
+        return {key: (v[idx] if isinstance(v, np.ndarray) and v.shape == (n,) else v) for key, v in c.items()}
+
+    pi_in = c["pi"](c["S_in"], c["T"])
+    lo = pi_in.copy()
+    f_lo = -np.ones(n)
+    # starting upper end: the full-rejection brine's osmotic pressure with polarisation, the mean flux's driving
+    # pressure and the pressure drops; widened towards P_SEARCH_MAX until the area suffices
+    pi_b = c["pi"](np.minimum(c["S_in"] / (1 - c["r"]), S_CAP), c["T"])
+    cp = np.exp(np.minimum(c["J_avg"] / c["k"], 5.0))
+    hi = np.minimum(pi_b * cp + 2 * c["J_avg"] / c["A"] + 3 * len(shares) * c["n_elem"] * c["dp_elem"] + 2e5,
+                    P_SEARCH_MAX)
+    f_hi = _g(_march(hi, c, shares, n_seg))
+    for _ in range(8):
+        short = f_hi <= 0
+        if not short.any():
+            break
+        lo = np.where(short, hi, lo)
+        f_lo = np.where(short, f_hi, f_lo)
+        hi_new = np.minimum(hi + 2 * (hi - pi_in), P_SEARCH_MAX)
+        idx = np.flatnonzero(short)
+        f_hi[idx] = _g(_march(hi_new[idx], sub(idx), shares, n_seg))
+        hi = np.where(short, hi_new, hi)
+    reachable = f_hi > 0
+    P = hi.copy()
+    side = np.zeros(n)
+    plateau = np.zeros(n, dtype=bool)
+    active = np.flatnonzero(reachable)
+    for _ in range(max_iter):
+        if active.size == 0:
+            break
+        a_lo, a_hi, fl, fh = lo[active], hi[active], f_lo[active], f_hi[active]
+        Pa = a_hi - fh * (a_hi - a_lo) / np.where(fh != fl, fh - fl, 1.0)
+        # after a trial on the plateau of infinite area (driving force gone before the end), regula falsi has no
+        # slope to go on: bisect instead
+        Pa = np.where(plateau[active], 0.5 * (a_lo + a_hi), np.clip(Pa, a_lo, a_hi))
+        fP = _g(_march(Pa, sub(active), shares, n_seg))
+        P[active] = Pa
+        upper = fP > 0
+        s = side[active]
+        fl = np.where(upper & (s == 1), fl / 2, fl)
+        fh = np.where(~upper & (s == -1), fh / 2, fh)
+        hi[active] = np.where(upper, Pa, a_hi)
+        f_hi[active] = np.where(upper, fP, fh)
+        lo[active] = np.where(~upper, Pa, a_lo)
+        f_lo[active] = np.where(~upper, fP, fl)
+        side[active] = np.where(upper, 1, -1)
+        plateau[active] = fP <= -1.0
+        narrow = (hi[active] - lo[active]) < 1e-12 * hi[active]
+        P[active[narrow]] = hi[active[narrow]]      # the side where the area suffices
+        active = active[~((np.abs(fP) < tol) | narrow)]
+    P[active] = hi[active]
+    return P, reachable
+
+
+def evaluate(feed: Feed, p: dict) -> Performance:
+    """Reverse osmosis in design mode for every case (see the module notes)."""
+    arrays = [np.shape(feed.salinity), np.shape(feed.temperature), np.shape(feed.capacity)]
+    shape = np.broadcast_shapes(*arrays, *(np.shape(v) for v in p.values() if not isinstance(v, str)))
+    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape).ravel().copy()  # noqa: E731
+    stages = b(p["stages"]).astype(int)
+    n_seg = int(np.max(p["segments"]))
+    erd = p["energy_recovery"]
+    S_f, T = b(feed.salinity), b(feed.temperature)
+    r = b(p["recovery"])
+    tf = temperature_factor(T)
+    mix = b(p["energy_recovery_mixing"]) if erd == "isobaric" else np.zeros_like(S_f)
+    rho_p = _brine.density(np.zeros_like(S_f), T, feed.water)
+    c = dict(T=T, A=b(p["water_permeability"]) * tf, B=b(p["salt_permeability"]) * tf,
+             k=b(p["mass_transfer_coefficient"]), J_avg=b(p["flux"]), n_elem=b(p["elements_per_vessel"]),
+             dp_elem=b(p["pressure_drop_per_element"]), boost=b(p["booster_pressure"]), r=r, v_p=1.0 / rho_p,
+             S_in=S_f * (1 - mix * (1 - r)) / (1 - mix), pi=osmotic_table(feed.model))
+    c["area_per_feed"] = r * c["v_p"] / c["J_avg"]        # design area [m^2 per kg/s of membrane feed]
+    n = S_f.size
+    P, reachable = np.full(n, np.nan), np.zeros(n, dtype=bool)
+    prof = {key: np.full(n, np.nan) for key in ("x", "perm_salt", "S_b", "P_b", "lead")}
+    st_perm, st_salt = np.zeros((3, n)), np.zeros((3, n))
+    thermo_limit = np.zeros(n, dtype=bool)
+    for ns in np.unique(stages):                 # a few groups by stage count, never a loop over cases
+        idx = np.flatnonzero(stages == ns)
+        ci = {key: (v[idx] if isinstance(v, np.ndarray) and v.shape == (n,) else v) for key, v in c.items()}
+        shares = STAGE_SHARES[int(ns)]
+        Pi, ok = solve_feed_pressure(ci, shares, n_seg)
+        P[idx], reachable[idx] = Pi, ok
+        out = _march(np.where(ok, Pi, P_SEARCH_MAX), ci, shares, n_seg, full=True)
+        for key in prof:
+            prof[key][idx] = out[key]
+        st_perm[:ns, idx], st_salt[:ns, idx] = out["st_perm"], out["st_salt"]
+        # at the pressure limit, does the driving force vanish before the end? (thermodynamic restriction)
+        P_max = b(p["max_pressure"])[idx]
+        over = np.flatnonzero(ok & (Pi > P_max))
+        if over.size:
+            sub = {key: (v[over] if isinstance(v, np.ndarray) and v.shape == (idx.size,) else v)
+                   for key, v in ci.items()}
+            thermo_limit[idx[over]] = ~np.isfinite(_march(P_max[over], sub, shares, n_seg))
+        thermo_limit[idx[~ok]] = True
+    P_b = prof["P_b"]
+    S_p = prof["perm_salt"] / r
+    S_bm = prof["S_b"]
+    # the brine leaving the plant: the membrane brine, less what mixing carried back in (overall salt balance)
+    S_b_out = (S_f - r * S_p) / (1 - r)
+
+    # energy per kg of permeate [J/kg], from gauge pressures and specific volumes
+    eta = b(p["pump_efficiency"]) * b(p["motor_efficiency"])
+    eta_p, eta_m = b(p["pump_efficiency"]), b(p["motor_efficiency"])
+    eta_e = b(p["energy_recovery_efficiency"])
+    v_f = 1.0 / _brine.density(c["S_in"], T, feed.water)
+    v_b = 1.0 / _brine.density(np.minimum(S_bm, S_CAP), T, feed.water)
+    q_b, q_f = (1 - r) / r, 1.0 / r               # brine and membrane feed mass per kg of permeate
+    if erd == "isobaric":
+        # equal volumes swapped: the high-pressure pump lifts the rest of the membrane feed; a booster lifts the
+        # exchanger's outflow from eta_e x brine pressure to the feed pressure
+        hp = P * (q_f * v_f - q_b * v_b) / eta
+        booster = q_b * v_b * np.maximum(P - eta_e * P_b, 0.0) / eta
+    elif erd == "turbine":
+        # a turbine on the pump shaft: its work (efficiency eta_e) offsets the pump's on the motor
+        hp = (q_f * P * v_f / eta_p - eta_e * q_b * P_b * v_b) / eta_m
+        booster = np.zeros_like(P)
+    else:
+        hp = q_f * P * v_f / eta
+        booster = np.zeros_like(P)
+    # interstage boosters lift the concentrate of the stages before
+    boost = c["boost"]
+    inter = np.zeros_like(P)
+    conc = q_f.copy()
+    for s in range(1, 3):
+        conc = conc - st_perm[s - 1] / r
+        inter = inter + np.where(stages > s, boost * conc * v_f / eta, 0.0)
+    e_ro = (hp + booster + inter) * rho_p                     # [J/m^3 of permeate]
+    other = b(p["other_electricity"])
+    electricity = e_ro + other
+    area = b(feed.capacity) / c["J_avg"]
+    elements = np.ceil(area / b(p["element_area"]) - 1e-9)
+    vessels = np.ceil(elements / c["n_elem"] - 1e-9)
+    v = feed.model.validity
+    P_max = b(p["max_pressure"])
+    restricted = thermo_limit
+    infeasible = {
+        "feed pressure needed is above ro.max_pressure": reachable & (P > P_max) & ~restricted,
+        "net driving pressure falls to zero before the end of the vessel even at ro.max_pressure (the concentrate's "
+        "osmotic pressure; thermodynamic restriction)": restricted,
+        "lead-element flux above ro.max_lead_flux": reachable & (prof["lead"] > b(p["max_lead_flux"])),
+        f"RO brine outside the validated range of model {feed.model.name} ({v.describe()})":
+            ~v.salinity_ok(np.where(np.isfinite(S_bm), S_bm, 1.0)) | ~v.temperature_ok(T),
+    }
+    flags = {
+        "RO design at the thermodynamic restriction: the outlet's net driving pressure is near zero and part of the "
+        "membrane area produces almost nothing (see area_used_fraction)": reachable & (prof["x"] < 1 - 1e-6),
+    }
+    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
+    nan = ~reachable
+    details = {
+        "feed_pressure_bar": P / BAR, "brine_pressure_bar": P_b / BAR,
+        "membrane_feed_salinity_g_per_kg": c["S_in"] * 1e3, "membrane_brine_salinity_g_per_kg": S_bm * 1e3,
+        "membrane_area_m2": area, "elements": elements, "vessels": vessels, "lead_flux_lmh": prof["lead"] / LMH,
+        "average_flux_lmh": c["J_avg"] / LMH, "area_used_fraction": prof["x"],
+        "ro_step_kwh_per_m3": e_ro / 3.6e6, "high_pressure_pump_kwh_per_m3": hp * rho_p / 3.6e6,
+        "booster_kwh_per_m3": (booster + inter) * rho_p / 3.6e6, "other_electricity_kwh_per_m3": other / 3.6e6,
+    }
+    for s in range(int(stages.max())):
+        with np.errstate(invalid="ignore", divide="ignore"):
+            details[f"stage_{s + 1}_permeate_g_per_kg"] = np.where(stages > s, st_salt[s] / st_perm[s] * 1e3, np.nan)
+            details[f"stage_{s + 1}_recovery"] = np.where(stages > s, st_perm[s], np.nan)
+    details = {key: np.where(nan, np.nan, val) for key, val in details.items()}
+    return Performance(
+        electricity=rs(np.where(nan, np.nan, electricity)), heat=rs(np.zeros(n)), heat_temperature=rs(np.full(n, np.nan)),
+        recovery=rs(r), product_salinity=rs(np.where(nan, np.nan, S_p)), brine_salinity=rs(np.where(nan, np.nan, S_b_out)),
+        infeasible={key: rs(m).astype(bool) for key, m in infeasible.items()},
+        flags={key: rs(m).astype(bool) for key, m in flags.items()},
+        details={key: rs(val) for key, val in details.items()})
+
+
+RO = register(Technology(
+    "ro", "reverse osmosis (spiral-wound, solution-diffusion, design mode)", evaluate, PARAMETERS,
+    "feed within the activity model's range; 1-3 stages; design mode (recovery and average flux given)",
+    "Wijmans & Baker 1995; film model (Mulder 1996); Zhu, Christofides & Cohen 2009; Li 2010"))
