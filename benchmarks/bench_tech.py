@@ -24,7 +24,12 @@ SPREAD = {
 
 
 def defaults(tech):
-    return {k: (s.default if s.kind == "choice" else parse_value(s, s.default, k)) for k, s in tech.parameters.items()}
+    from compare.schema import OPTIONAL
+    out = {}
+    for k, s in tech.parameters.items():
+        out[k] = None if s.default == OPTIONAL else s.default if s.kind in ("choice", "flag") \
+            else parse_value(s, s.default, k)
+    return out
 
 
 def cases(tech, n, rng):

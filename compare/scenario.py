@@ -17,11 +17,10 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError, InputErrors
-from .schema import Spec, efficiency, parse_value
+from .schema import OPTIONAL, Spec, efficiency, parse_value
 from .thermo.activity import MODELS, WATERS
 from .units import CURRENCIES
 
-OPTIONAL = "(none)"     # default of a key that may stay unset
 FEED_TEMPERATURE = "the feed temperature"
 
 SITE_SECTIONS: dict[str, dict[str, Spec]] = {

@@ -16,6 +16,10 @@ from .errors import InputError
 from .units import (SALINITY_EXPECT, currency_of, parse_quantity, parse_salinity, parse_temperature, registry)
 
 
+#: default of a key that may stay unset: the scenario gives the technology None for it
+OPTIONAL = "(none)"
+
+
 @dataclass(frozen=True)
 class Spec:
     """One scenario key.

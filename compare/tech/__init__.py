@@ -11,4 +11,4 @@ def load_builtin() -> None:
         importlib.import_module(f"{__name__}.{name}")
 
 
-BUILTIN: tuple[str, ...] = ("ro",)
+BUILTIN: tuple[str, ...] = ("ro", "med")

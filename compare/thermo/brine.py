@@ -1,4 +1,5 @@
-"""Brine properties besides water activity: density and the mg/L <-> g/kg conversion.
+"""Brine properties besides water activity: density, the mg/L <-> g/kg conversion, boiling-point elevation and
+enthalpy.
 
 Density of seawater: TEOS-10 (``gsw.rho_t_exact``) inside its density range (to 42 g/kg and 40 degC); outside it,
 CoolProp's incompressible ``INCOMP::MITSW`` (Sharqawy, Lienhard & Zubair 2010, to 120 g/kg and 120 degC), through a
@@ -114,3 +115,28 @@ def mass_fraction_from_concentration(c, T, water: str):
 def concentration_from_mass_fraction(S, T, water: str):
     """Mass concentration [kg/m^3] of salt from the mass fraction S [kg/kg] at T [K]."""
     return np.asarray(S, dtype=float) * density(S, T, water)
+
+
+def boiling_point_elevation(model, S, T):
+    """Boiling-point elevation [K] of a brine of salinity S [kg/kg] at temperature T [K], from its water activity.
+
+    The vapour over the brine is at p = a_w(S, T) p_sat(T) (ideal vapour, Poynting term neglected), which boils pure
+    water at T_sat(p); the elevation is T - T_sat(p). With TEOS-10 a_w and the IAPWS-95 saturation line it agrees
+    with Sharqawy, Lienhard & Zubair (2010) eq. 36 within 0.02 K at 40-80 degC, 35-100 g/kg (tests).
+    """
+    S, T = np.broadcast_arrays(np.asarray(S, dtype=float), np.asarray(T, dtype=float))
+    p = np.exp(model.ln_aw(S, T)) * _water.saturation_pressure(T)
+    return T - _water.saturation_temperature(p)
+
+
+def enthalpy(S, T):
+    """Specific enthalpy of seawater or brine [J/kg] at salinity S [kg/kg] and T [K], at atmospheric pressure.
+
+    TEOS-10 (``gsw.enthalpy_t_exact``; Gibbs function valid to 120 g/kg and 80 degC), whose pure-water reference
+    is that of IAPWS-95 (internal energy and entropy of liquid water zero at the triple point), the reference of the
+    CoolProp steam properties in :mod:`compare.thermo.water`. Other waters take the seawater value at the same mass
+    fraction (a screening approximation; callers flag it).
+    """
+    import gsw
+    S, T = np.broadcast_arrays(np.asarray(S, dtype=float), np.asarray(T, dtype=float))
+    return gsw.enthalpy_t_exact(S * 1e3, T - T0_C, 0.0)

@@ -1,0 +1,345 @@
+"""Multi-effect distillation: effect-by-effect mass, salt and energy balances on steam tables and the brine's own water
+activity, with parallel/cross or forward feed, feed preheaters, distillate flash boxes, a down condenser and optional
+thermal vapour compression. Vectorised over every case (a loop over effects, never over cases).
+
+Flow sheet
+----------
+Effects 1..N have brine temperatures falling in equal steps from the top brine temperature to the last-effect
+temperature (by default the feed temperature plus ``last_brine_margin``). The evaporator feed (taken from the
+down condenser's cooling-water outlet) is heated through preheaters 1..N-1, each fed by part of the vapour of its
+effect, ``preheater_approach`` below that vapour's condensing temperature. Parallel/cross feed gives each effect the share
+of the feed that brings its brine to the salinity limit, taken from the preheater train at that effect's level, and
+cascades the brine from effect to effect (where it flashes); forward feed sends all the feed, fully preheated, to effect 1. The steam condenses in
+effect 1; the vapour of effect i condenses in the tubes of effect i+1 (the last one in the down condenser).
+Condensate collects in flash boxes, each flashing to the condensing temperature of its vapour line; the flash vapour
+joins that line. The brine salinity limit ``brine_salinity`` sets the recovery of the evaporator feed.
+
+Per effect: the vapour leaves the brine at p_i = a_w(S_i, T_i) p_sat(T_i), so at T_sat(p_i) = T_i - BPE_i (the
+boiling-point elevation from the feed's activity model, :func:`compare.thermo.brine.boiling_point_elevation`); the
+demister drops its pressure by ``demister_pressure_drop``, and a lumped ``non_equilibrium_allowance`` lowers the
+temperature at which it condenses further. The vapour's superheat (the BPE, below about 1.5 K, 0.1 % of its enthalpy)
+is neglected. Steam and condensate: saturated IAPWS-95 properties from CoolProp (tables built once, bounded against
+CoolProp in tests); seawater and brine enthalpy: TEOS-10 (:func:`compare.thermo.brine.enthalpy`).
+
+All flows are affine in the steam flow once the salinity profile is fixed, so each pass solves the steam flow that
+gives the recovery exactly (two marches); passes repeat with the updated salinities until they settle (a fixed-point
+iteration, converged below 1e-12 in a handful of passes).
+
+Thermal vapour compression: a steam ejector takes motive steam at ``motive_steam_pressure``, entrains vapour from
+effect ``suction_effect`` (default: the last) and discharges into effect 1's tubes at the heating-steam pressure. Its
+entrainment ratio Ra (motive per entrained mass) follows El-Dessouky & Ettouney (2002, ch. 7; from memory):
+Ra = 0.296 p_s^1.19 / p_ev^1.04 (p_m / p_ev)^0.015 (PCF / TCF), p in kPa, PCF = 3e-7 p_m^2 - 9e-4 p_m + 1.6101,
+TCF = 2e-8 T_ev^2 - 6e-4 T_ev + 1.0047 (T_ev in degC), stated for compression ratios p_s/p_ev >= 1.81, Ra <= 4
+and motive steam 100-3500 kPa; outside that the case is flagged. GOR counts the motive steam only.
+
+Heat-transfer area: overall coefficients of El-Dessouky & Ettouney (2002; from memory) for falling-film evaporators,
+U_e = 1.9695 + 1.2057e-2 t - 8.5989e-5 t^2 + 2.5651e-7 t^3 [kW/(m^2 K)], and condensers and preheaters,
+U_c = 1.7194 + 3.2063e-3 t + 1.5971e-5 t^2 - 1.9918e-7 t^3, t in degC (at the brine or the condensing vapour).
+
+Limits: a case is infeasible where an effect has no temperature difference left for heat transfer (losses and BPE
+exceed the step), where the last effect is too close to the seawater to run the condenser, where the brine limit is
+not above the feed, or where the ejector's motive steam is not above the heating steam. A top brine temperature
+above 70 degC is flagged (scaling practice); above the activity model's range (80 degC for TEOS-10) it is flagged as
+out of range.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..schema import OPTIONAL, Spec
+from ..thermo import brine as _brine
+from ..thermo import water as _water
+from ..thermo.constants import T0_C
+from .base import Feed, Performance, Technology, register
+
+PASSES = 12              # salinity fixed-point passes (converged well before)
+
+PARAMETERS = {
+    "effects": Spec("count", "8", "practice: 4-12 effects in low-temperature MED", expect="a number of effects 2-16",
+                    lo=2, hi=16),
+    "feed_arrangement": Spec("choice", "parallel", "practice: parallel/cross feed in seawater MED",
+                             choices=("parallel", "forward")),
+    "top_brine_temperature": Spec("temperature", "65 degC", "practice: 65-70 degC to limit scaling (CHECKS.md)",
+                                  expect='a temperature such as "65 degC"', lo=T0_C + 30, hi=T0_C + 130),
+    "last_brine_temperature": Spec("temperature", OPTIONAL, "the feed temperature plus last_brine_margin",
+                                   expect='a temperature such as "40 degC"', lo=T0_C + 5, hi=T0_C + 120),
+    "last_brine_margin": Spec("quantity", "10 K", "practice: last effect about 10 K above the seawater", "K",
+                              'a temperature difference such as "10 K"', lo=0.0, lo_open=True),
+    "brine_salinity": Spec("salinity", "70 g/kg", "practice: brine concentration limit about twice seawater",
+                           expect='a salinity such as "70 g/kg"', lo=0.0, lo_open=True),
+    "steam_temperature_difference": Spec("quantity", "4 K", "practice: heating steam a few K above the top brine",
+                                         "K", 'a temperature difference such as "4 K"', lo=0.0, lo_open=True),
+    "preheater_approach": Spec("quantity", "4 K", "from memory: preheater terminal difference 3-5 K", "K",
+                               'a temperature difference such as "4 K"', lo=0.0, lo_open=True),
+    "condenser_terminal_difference": Spec("quantity", "3 K", "from memory: condensing vapour 2-4 K above the "
+                                          "cooling-water outlet", "K", 'a temperature difference such as "3 K"',
+                                          lo=0.0, lo_open=True),
+    "demister_pressure_drop": Spec("quantity", "40 Pa", "from memory: demister losses of tens of Pa", "Pa",
+                                   'a pressure drop such as "40 Pa"', lo=0.0),
+    "non_equilibrium_allowance": Spec("quantity", "0.3 K", "from memory: a few tenths of a K per effect", "K",
+                                      'a temperature difference such as "0.3 K"', lo=0.0),
+    "vapor_compression": Spec("flag", False, "default: no thermal vapour compression"),
+    "motive_steam_pressure": Spec("quantity", "10 bar", "from memory: TVC motive steam 3-25 bar", "Pa",
+                                  'a pressure such as "10 bar"', lo=0.0, lo_open=True),
+    "suction_effect": Spec("count", OPTIONAL, "the last effect", expect="an effect number 1-16", lo=1, hi=16),
+    "electricity": Spec("quantity", "1.8 kWh/m^3", "practice: MED pumping 1.5-2.5 kWh/m3 (CHECKS.md)", "J/m^3",
+                        'an energy per volume such as "1.8 kWh/m^3"', lo=0.0),
+    "capital_cost": Spec("money", "1800 USD/(m^3/day)", "from memory: MED plants, about 1500-2500 USD per m3/day",
+                         "day/m^3", 'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0),
+    "fixed_om": Spec("fraction", "0.035", "practice: fixed O&M about 3-4 % of capital per year",
+                     expect='a share of capital per year such as 0.035 or "3.5 %"', lo=0.0, hi=1.0),
+}
+
+
+def u_evaporator(T):
+    """Overall heat-transfer coefficient of a falling-film evaporator [W/(m^2 K)] at brine T [K]
+    (El-Dessouky & Ettouney 2002; from memory)."""
+    t = np.asarray(T, dtype=float) - T0_C
+    return 1e3 * (1.9695 + 1.2057e-2 * t - 8.5989e-5 * t ** 2 + 2.5651e-7 * t ** 3)
+
+
+def u_condenser(T):
+    """Overall heat-transfer coefficient of a condenser or feed preheater [W/(m^2 K)] at condensing T [K]
+    (El-Dessouky & Ettouney 2002; from memory)."""
+    t = np.asarray(T, dtype=float) - T0_C
+    return 1e3 * (1.7194 + 3.2063e-3 * t + 1.5971e-5 * t ** 2 - 1.9918e-7 * t ** 3)
+
+
+def entrainment_ratio(p_m, p_s, p_ev, T_ev):
+    """Motive steam per kg of entrained vapour of a steam ejector (El-Dessouky & Ettouney 2002; from memory).
+    Pressures in Pa, T_ev in K. Returns (Ra, in_range)."""
+    pm, ps, pev = p_m / 1e3, p_s / 1e3, p_ev / 1e3
+    t = T_ev - T0_C
+    pcf = 3e-7 * pm ** 2 - 9e-4 * pm + 1.6101
+    tcf = 2e-8 * t ** 2 - 6e-4 * t + 1.0047
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ra = 0.296 * ps ** 1.19 / pev ** 1.04 * (pm / pev) ** 0.015 * pcf / tcf
+    ok = (ps / pev >= 1.81) & (ra <= 4.0) & (pm >= 100.0) & (pm <= 3500.0)
+    return ra, ok
+
+
+def _lmtd(hot, c_in, c_out):
+    """Log-mean temperature difference of a condensing (isothermal) hot side against a heated cold stream."""
+    d1, d2 = hot - c_in, hot - c_out
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(np.abs(d1 - d2) < 1e-9, d1, (d1 - d2) / np.log(d1 / d2))
+
+
+def _march(M, st, N, tvc, k_suc, Ra, parallel):
+    """One pass of the effect-by-effect balances per kg/s of evaporator feed at heating (or motive) steam M [kg/s],
+    with every temperature and enthalpy fixed in ``st``. Every flow returned is affine in M.
+
+    Parallel/cross feed gives effect i the feed F_i = V_i / rec that brings its brine to the salinity limit (every
+    effect at the limit, the usual design); forward feed sends all the feed to effect 1."""
+    n = M.shape[0]
+    zeros = np.zeros(n)
+    V, Vph, Fl, Dx, Q, B, salt, F = ([zeros] * N for _ in range(8))
+    hv, hb, hf, hlc, hgc = st["h_v"], st["h_b"], st["h_f"], st["h_lc"], st["h_gc"]
+    rec = st["rec"]
+    E = M / Ra if tvc else zeros                    # entrained vapour
+    if tvc:
+        Q[0] = M * st["h_m"] + E * hv[k_suc] - (M + E) * st["h_ls"]
+    else:
+        Q[0] = M * (st["h_gs"] - st["h_ls"])
+    C_prev = zeros
+    B_prev, salt_prev, hb_prev = zeros, zeros, zeros
+    W = zeros
+    for i in range(N):
+        if parallel:
+            # Q + F h_f + B' h_b' = (B' + F - V) h_b + V h_v with F = V / rec
+            V[i] = (Q[i] + B_prev * (hb_prev - hb[i])) / (hv[i] - hb[i] + (hb[i] - hf[i]) / rec)
+            F[i] = V[i] / rec
+        else:
+            F[i] = np.ones(n) if i == 0 else zeros
+            V[i] = (Q[i] + F[i] * hf[i] + B_prev * hb_prev - (B_prev + F[i]) * hb[i]) / (hv[i] - hb[i])
+        B[i] = B_prev + F[i] - V[i]
+        salt[i] = salt_prev + F[i] * st["S_f"]
+        W = W + F[i]
+        if i < N - 1:
+            # preheater i heats the feed of effects 1..i from the level of effect i+1 to its own
+            Vph[i] = W * (st["h_fp"][i] - st["h_fp"][i + 1]) / (hv[i] - hlc[i])
+        if i >= 1:
+            # flash box i: condensate of effect i's tubes and of preheater i-1 (at the condensing temperature of
+            # line i-1) and the distillate of box i-1 flash to the condensing temperature of line i
+            liquid = C_prev + Vph[i - 1] + (Dx[i - 1] if i >= 2 else zeros)
+            H = liquid * hlc[i - 1]
+            if i == 1 and tvc:
+                liquid = liquid + E
+                H = H + E * st["h_ls"]                # the entrained vapour's condensate comes at T_s
+            Fl[i] = (H - liquid * hlc[i]) / (hgc[i] - hlc[i])
+            Dx[i] = liquid - Fl[i]
+        # vapour line i condenses in the tubes of effect i+1 (or the down condenser)
+        to_next = V[i] - Vph[i] - (E if (tvc and i == k_suc) else zeros)
+        duty = to_next * (hv[i] - hlc[i]) + Fl[i] * (hgc[i] - hlc[i])
+        if i < N - 1:
+            Q[i + 1] = duty
+        C_prev = to_next + Fl[i]
+        B_prev, salt_prev, hb_prev = B[i], salt[i], hb[i]
+    return dict(V=np.array(V), Vph=np.array(Vph), Fl=np.array(Fl), Dx=np.array(Dx), Q=np.array(Q), B=np.array(B),
+                salt=np.array(salt), F=np.array(F), Q_cond=duty, C_cond=C_prev, E=E)
+
+
+def _group(feed, p, idx, N, tvc, size):
+    """All cases of one effect count (indices idx among size cases), solved together."""
+    n = idx.size
+    g = lambda x: np.broadcast_to(np.asarray(x, dtype=float), (size,))[idx]  # noqa: E731
+    S_f, T_sw = g(feed.salinity), g(feed.temperature)
+    T1 = g(p["top_brine_temperature"])
+    T_N = g(p["last_brine_temperature"]) if p["last_brine_temperature"] is not None \
+        else T_sw + g(p["last_brine_margin"])
+    S_max = g(p["brine_salinity"])
+    dp_dem, nea = g(p["demister_pressure_drop"]), g(p["non_equilibrium_allowance"])
+    T_s = T1 + g(p["steam_temperature_difference"])
+    frac = np.linspace(0.0, 1.0, N)[:, None]
+    T = T1[None, :] - (T1 - T_N)[None, :] * frac                   # (N, n) brine temperatures
+    rec = 1.0 - S_f / S_max                                         # distillate per kg of evaporator feed
+    parallel = p["feed_arrangement"] != "forward"
+    k_suc = N - 1 if p["suction_effect"] is None else int(min(np.max(p["suction_effect"]), N)) - 1
+    # salinity profile: start from the ideal split of the recovery, then iterate
+    if parallel:
+        S = np.broadcast_to(S_max, (N, n)).copy()
+    else:
+        S = S_f[None, :] + (S_max - S_f)[None, :] * np.linspace(1.0 / N, 1.0, N)[:, None]
+    st = dict(S_f=S_f, rec=rec)
+    st["h_gs"], st["h_ls"] = _water.vapour_enthalpy(T_s), _water.liquid_enthalpy(T_s)
+    p_s = _water.saturation_pressure(T_s)
+    if tvc:
+        p_m = g(p["motive_steam_pressure"])
+        T_m = _water.saturation_temperature(np.minimum(p_m, 0.99 * 22.06e6))
+        st["h_m"] = _water.vapour_enthalpy(np.minimum(T_m, 520.0))
+    M = np.ones(n)
+    for _ in range(PASSES):
+        S_safe = np.clip(S, 0.0, 0.3)
+        bpe = _brine.boiling_point_elevation(feed.model, S_safe, T)
+        p_v = _water.saturation_pressure(T - bpe)
+        T_c = _water.saturation_temperature(np.maximum(p_v - dp_dem, 50.0)) - nea   # condensing, line i
+        T_cw = T_c[-1] - g(p["condenser_terminal_difference"])
+        # preheat levels: feed to effect N at the condenser outlet; above, approach below line i's condensing T
+        T_fp = np.empty_like(T)
+        T_fp[-1] = T_cw
+        for i in range(N - 2, -1, -1):
+            T_fp[i] = np.maximum(T_c[i] - g(p["preheater_approach"]), T_fp[i + 1])
+        st.update(h_v=_water.vapour_enthalpy(T - bpe), h_b=_brine.enthalpy(S_safe, T),
+                  h_fp=_brine.enthalpy(S_f[None, :] + 0 * T, T_fp), h_lc=_water.liquid_enthalpy(T_c),
+                  h_gc=_water.vapour_enthalpy(T_c))
+        st["h_f"] = st["h_fp"]
+        Ra = np.inf
+        if tvc:
+            Ra, ra_ok = entrainment_ratio(p_m, p_s, p_v[k_suc], T[k_suc] - bpe[k_suc])
+        a = _march(np.zeros(n), st, N, tvc, k_suc, Ra, parallel)
+        b = _march(np.ones(n), st, N, tvc, k_suc, Ra, parallel)
+        Da, Db = a["V"].sum(axis=0), b["V"].sum(axis=0)
+        M = (rec - Da) / (Db - Da)
+        out = {key: a[key] + M * (b[key] - a[key]) for key in a}
+        with np.errstate(divide="ignore", invalid="ignore"):
+            S_new = np.where(out["B"] > 0, out["salt"] / out["B"], S_max)
+        change = np.max(np.abs(S_new - S))
+        S = S_new
+        if change < 1e-13:
+            break
+    # the final pass's states and flows belong together (the salinities used are those of the pass before, equal
+    # to the ones returned to 1e-13)
+    D = out["V"].sum(axis=0)                                        # = rec
+    h_cw_in = _brine.enthalpy(S_f, T_sw)
+    h_cw_out = _brine.enthalpy(S_f, T_cw)
+    M_cw = out["Q_cond"] / (h_cw_out - h_cw_in)                     # seawater through the down condenser
+    # heat-transfer areas per kg/s of evaporator feed
+    dT_eff = np.vstack([T_s[None, :], T_c[:-1]]) - T
+    with np.errstate(divide="ignore", invalid="ignore"):
+        area_e = out["Q"] / (u_evaporator(T) * dT_eff)
+        area_ph = np.zeros(n)
+        for i in range(N - 1):
+            W = out["F"][: i + 1].sum(axis=0)
+            duty = W * (st["h_fp"][i] - st["h_fp"][i + 1])
+            area_ph = area_ph + np.where(duty > 0, duty / (u_condenser(T_c[i]) * _lmtd(T_c[i], T_fp[i + 1],
+                                                                                         T_fp[i])), 0.0)
+        area_c = out["Q_cond"] / (u_condenser(T_c[-1]) * _lmtd(T_c[-1], T_sw, T_cw))
+    heat = M * ((st["h_m"] if tvc else st["h_gs"]) - st["h_ls"])   # per kg/s of evaporator feed
+    T_heat = T_m if tvc else T_s
+    bad = {
+        "an MED effect has no temperature difference left for heat transfer (losses and boiling-point elevation "
+        "exceed the step between effects)": np.any(dT_eff <= 0.05, axis=0),
+        "MED last effect too close to the seawater temperature to run the condenser": T_cw <= T_sw + 0.5,
+        "MED brine salinity limit (med.brine_salinity) not above the feed salinity": S_max <= S_f,
+        "MED condenser's seawater flow is less than the evaporator feed it must supply": M_cw < 1.0,
+        "MED balances gave a negative flow (the temperature range cannot carry this many effects)":
+            np.any(out["V"] <= 0, axis=0) | np.any(out["B"] <= 0, axis=0) | (M <= 0),
+    }
+    flags = {
+        "MED top brine temperature above 70 degC (scaling risk; common practice keeps it at 65-70 degC)":
+            T1 > T0_C + 70.0 + 1e-9,
+    }
+    if tvc:
+        bad["MED motive steam not above the heating steam (med.motive_steam_pressure)"] = p_m <= p_s
+        flags["MED ejector outside the entrainment-ratio correlation's range (compression ratio >= 1.81, Ra <= 4, "
+              "motive steam 1-35 bar)"] = ~ra_ok
+    v = feed.model.validity
+    flags[f"MED brine outside the validated range of model {feed.model.name} ({v.describe()})"] = (
+        ~v.salinity_ok(np.clip(S[-1], 0, None)) | ~v.temperature_ok(T1))
+    return dict(D=D, M=M, heat=heat, T_heat=T_heat, S_b=S[-1], T_b=T[-1], T_d=T_c[-1], M_cw=M_cw, T_cw=T_cw,
+                area=area_e.sum(axis=0) + area_ph + area_c, T_s=T_s, rec=rec, bpe_last=bpe[-1],
+                step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, flags=flags,
+                h_gs=st["h_gs"], h_ls=st["h_ls"])
+
+
+def evaluate(feed: Feed, p: dict) -> Performance:
+    """Multi-effect distillation for every case (see the module notes)."""
+    arrays = [np.shape(feed.salinity), np.shape(feed.temperature)]
+    shape = np.broadcast_shapes(*arrays, *(np.shape(v) for v in p.values() if not isinstance(v, (str, type(None)))))
+    size = int(np.prod(shape))
+    full = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape).ravel()  # noqa: E731
+    N_all = full(p["effects"]).astype(int)
+    tvc = bool(np.any(p["vapor_compression"]))
+    pp = {key: (full(v) if isinstance(v, (np.ndarray, float, int)) and not isinstance(v, bool) else v)
+          for key, v in p.items()}
+    pp["vapor_compression"] = tvc
+    fd = Feed(feed.model, feed.water, full(feed.salinity), full(feed.temperature), full(feed.product_salinity),
+              full(feed.heat_temperature), full(feed.capacity))
+    keys = ("D", "M", "heat", "T_heat", "S_b", "T_b", "T_d", "M_cw", "T_cw", "area", "T_s", "rec", "bpe_last",
+            "step", "E", "Ra", "h_gs", "h_ls")
+    res = {key: np.full(size, np.nan) for key in keys}
+    bad, flags = {}, {}
+    for N in np.unique(N_all):              # one group per effect count (at most 15), never a loop over cases
+        idx = np.flatnonzero(N_all == N)
+        out = _group(fd, pp, idx, int(N), tvc, size)
+        for key in keys:
+            res[key][idx] = out[key]
+        for dest, src in ((bad, out["bad"]), (flags, out["flags"])):
+            for text, mask in src.items():
+                dest.setdefault(text, np.zeros(size, dtype=bool))[idx] = mask
+    rho_d = _brine.density(np.zeros(size), res["T_d"], "seawater")
+    per_m3 = rho_d / res["D"]                         # kg/s of evaporator feed per (m^3/s of distillate)
+    heat = res["heat"] * per_m3                       # J per m^3 of distillate
+    gor = res["D"] / res["M"]
+    elec = full(p["electricity"])
+    if feed.water != "seawater":
+        flags["MED brine enthalpy taken from TEOS-10 seawater at the same salinity (the feed is not seawater)"] = \
+            np.ones(size, dtype=bool)
+    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
+    details = {
+        "gor": gor, "heating_steam_temperature_c": res["T_s"] - T0_C,
+        "heat_supply_temperature_c": res["T_heat"] - T0_C,
+        "top_brine_temperature_c": full(p["top_brine_temperature"]) - T0_C,
+        "last_brine_temperature_c": res["T_b"] - T0_C, "temperature_step_k": res["step"],
+        "last_effect_bpe_k": res["bpe_last"], "brine_salinity_g_per_kg": res["S_b"] * 1e3,
+        "evaporator_recovery": res["rec"], "specific_area_m2_per_kg_s": res["area"] / res["D"],
+        "cooling_water_per_product": res["M_cw"] / res["D"], "cooling_water_outlet_c": res["T_cw"] - T0_C,
+        "product_temperature_c": res["T_d"] - T0_C, "steam_per_product": res["M"] / res["D"],
+        "heat_kwh_th_per_m3": heat / 3.6e6, "heat_kj_per_kg_product": res["heat"] / res["D"] / 1e3,
+    }
+    if tvc:
+        details["entrainment_ratio"] = res["Ra"]
+        details["entrained_vapour_per_product"] = res["E"] / res["D"]
+    return Performance(
+        electricity=rs(elec), heat=rs(heat), heat_temperature=rs(res["T_heat"]), recovery=rs(res["rec"]),
+        product_salinity=rs(np.zeros(size)), brine_salinity=rs(res["S_b"]),
+        infeasible={key: rs(m).astype(bool) for key, m in bad.items()},
+        flags={key: rs(m).astype(bool) for key, m in flags.items()},
+        details={key: rs(v) for key, v in details.items()})
+
+
+MED = register(Technology(
+    "med", "multi-effect distillation (parallel/cross or forward feed, optional thermal vapour compression)",
+    evaluate, PARAMETERS, "2-16 effects; brine within the activity model's range (TEOS-10: 120 g/kg, 80 degC)",
+    "effect balances on IAPWS-95 (CoolProp) and TEOS-10; El-Dessouky & Ettouney 2002 (U, ejector)"))
