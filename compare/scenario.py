@@ -152,6 +152,14 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
     errors: list[str] = []
     specs = sections()
     data = {k: (dict(v) if isinstance(v, dict) else v) for k, v in data.items()}
+    # a sub-table such as [fo.regenerator] becomes dotted keys of its section ("regenerator.max_pressure") where the
+    # section declares such keys
+    for sec, body in data.items():
+        if isinstance(body, dict) and sec in specs:
+            for key in [k for k, v in body.items() if isinstance(v, dict)]:
+                if any(name.startswith(f"{key}.") for name in specs[sec]):
+                    for sub, v in body.pop(key).items():
+                        body[f"{key}.{sub}"] = v
     sources: dict[str, str] = {}
     texts: dict[str, Any] = {}
 

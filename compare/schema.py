@@ -25,7 +25,8 @@ class Spec:
     """One scenario key.
 
     kind: ``quantity`` (converted to ``unit``), ``fraction`` (dimensionless, may be written with %), ``count``
-    (integer), ``flag`` (true/false), ``choice``, ``salinity``, ``temperature``, ``temperatures`` (one value or
+    (integer), ``flag`` (true/false), ``choice``, ``salinity``, ``nacl_concentration`` (a molality of NaCl or a mass
+    fraction, as a mass fraction), ``temperature``, ``temperatures`` (one value or
     twelve monthly values), ``money`` (currency times ``unit``), ``table`` (a TOML table, checked by the consumer).
     ``lo``/``hi`` bound the SI value (``lo_open``/``hi_open`` exclude the bound).
     """
@@ -107,6 +108,21 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
         kind, v = parse_salinity(raw, where=where)
         if kind == "concentration":
             v = float(mass_fraction_from_concentration(v, temperature, water))
+        _bounds(spec, v, where, raw)
+        return v
+    if k == "nacl_concentration":
+        # a molality of NaCl ("1.5 mol/kg", per kg of water) or a mass fraction ("80 g/kg"), as a mass fraction
+        from .thermo.constants import M_NACL
+        if isinstance(raw, bool) or not isinstance(raw, str):
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)} (give the unit)")
+        q = parse_quantity(raw, where=where, expect=spec.expect)
+        if q.dimensionality == registry().get_dimensionality("[substance]/[mass]"):
+            m = float(q.to("mol/kg").magnitude)
+            v = m * M_NACL / (1 + m * M_NACL) if m >= 0 else -1.0
+        elif q.dimensionless and str(q.units) != "dimensionless":
+            v = float(q.to("").magnitude)
+        else:
+            raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
         _bounds(spec, v, where, raw)
         return v
     if k == "fraction":

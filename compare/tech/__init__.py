@@ -11,4 +11,4 @@ def load_builtin() -> None:
         importlib.import_module(f"{__name__}.{name}")
 
 
-BUILTIN: tuple[str, ...] = ("ro", "med")
+BUILTIN: tuple[str, ...] = ("ro", "med", "fo")
