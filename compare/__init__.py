@@ -5,6 +5,9 @@ Public API (SI units unless a name says otherwise):
 
 * :func:`floor` - the thermodynamic floor of a feed (water activity, osmotic pressure, least work).
 * :func:`compare.thermo.activity.get_model` - a water activity model.
+* :func:`compare.scenario.load` - a scenario file, validated and in SI.
+* :func:`compare.pipeline.evaluate` - every enabled technology for a scenario (and N varied cases).
+* :mod:`compare.sweep` - grids, Monte Carlo samples, summaries, rankings and break-even points.
 """
 
 from __future__ import annotations

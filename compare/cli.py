@@ -194,12 +194,17 @@ def _load_all(paths, overrides):
 def cmd_compare(args) -> int:
     """``desal compare``: every enabled technology for each scenario, side by side."""
     from .pipeline import check_strict, evaluate
-    from .present.files import to_csv, to_json, write_run
+    from .present.files import RunFolder, to_csv, to_json
     from .present.tables import markdown_compare, print_compare
     from .runrecord import run_record
 
     if args.out and args.no_save:
         raise InputError("--out and --no-save: expected one of them, got both")
+    if args.plot:
+        if args.no_save:
+            raise InputError("--plot: expected a run folder to write the plots into, got --no-save")
+        from .present.plots import available
+        available()
     scenarios = _load_all(args.scenario, args.set or [])
     results = [evaluate(s) for s in scenarios]
     if args.strict:
@@ -211,10 +216,16 @@ def cmd_compare(args) -> int:
     md_text = "\n".join(markdown_compare(p) for p in payloads)
     saved = None
     if not args.no_save:
-        files = {"results.json": json_text, "results.csv": csv_text, "report.md": md_text,
-                 "run.json": to_json(run_record(scenarios, ["desal", "compare", *args.argv]))}
         label = scenarios[0].name if len(scenarios) == 1 else f"{len(scenarios)}-scenarios"
-        saved = write_run(Path(args.out or "results"), label, files)
+        with RunFolder(Path(args.out or "results"), label) as folder:
+            files = {"results.json": json_text, "results.csv": csv_text, "report.md": md_text,
+                     "run.json": to_json(run_record(scenarios, ["desal", "compare", *args.argv]))}
+            for name, text in files.items():
+                folder.write(name, text)
+            if args.plot:
+                from .present.plots import compare_figure
+                compare_figure(payloads, folder)
+            saved = folder.commit()
     if args.format == "json":
         sys.stdout.write(json_text)
     elif args.format == "csv":
@@ -230,6 +241,133 @@ def cmd_compare(args) -> int:
     if saved is not None:
         print(f"saved: {saved}", file=sys.stderr)
     return 0
+
+
+def cmd_sweep(args) -> int:
+    """``desal sweep``: a grid or Monte Carlo samples of one scenario."""
+    from . import sweep as sw
+    from .present.files import RunFolder, to_json
+    from .present.tables import sweep_markdown, sweep_tables
+    from .runrecord import run_record
+
+    if args.out and args.no_save:
+        raise InputError("--out and --no-save: expected one of them, got both")
+    if bool(args.vary) == (args.samples is not None):
+        raise InputError("sweep: expected either --vary (a grid) or --samples (Monte Carlo), got "
+                         + ("both" if args.vary else "neither"))
+    if args.chunk is not None and args.chunk < 1:
+        raise InputError(f"--chunk: expected a number of cases of 1 or more, got {args.chunk}")
+    if args.plot:
+        if args.no_save:
+            raise InputError("--plot: expected a run folder to write the plots into, got --no-save")
+        from .present.plots import available
+        available()
+    scenario = _load_all([args.scenario], args.set or [])[0]
+    if args.vary:
+        axes = [sw.parse_vary(v, scenario) for v in args.vary]
+        cases, notes, mode = sw.grid_cases(axes), [], "grid"
+    else:
+        axes = []
+        cases, notes = sw.sample_cases(scenario, args.samples, args.seed, args.lhs)
+        mode = "samples"
+    n = len(next(iter(cases.values())))
+    folder = None if args.no_save else RunFolder(Path(args.out or "results"), f"{scenario.name}-sweep")
+    frames = [] if args.format == "csv" else None
+    try:
+        csv_file = folder.open("cases.csv") if folder is not None else None
+        parquet = _parquet_writer(folder) if folder is not None else None
+        state = {"header": True}
+
+        def sink(frame):
+            if csv_file is not None:
+                frame.to_csv(csv_file, index=False, header=state["header"])
+                state["header"] = False
+            if parquet is not None:
+                parquet.write(frame)
+            if frames is not None:
+                frames.append(frame)
+        with _progress(n, quiet=args.quiet) as progress:
+            result = sw.run(scenario, cases, mode=mode, chunk=args.chunk, progress=progress,
+                            sink=sink if (folder is not None or frames is not None) else None, axes=axes,
+                            warnings=notes, seed=args.seed if mode == "samples" else None, lhs=args.lhs)
+        body = sw.payload(result)
+        saved = None
+        if folder is not None:
+            csv_file.close()
+            if parquet is not None:
+                parquet.close()
+            folder.write("summary.json", to_json(body))
+            folder.write("report.md", sweep_markdown(body))
+            folder.write("run.json", to_json(run_record([scenario], ["desal", "sweep", *args.argv])))
+            if args.plot:
+                from .present import plots
+                (plots.grid_figure if mode == "grid" else plots.samples_figure)(result, folder)
+            saved = folder.commit()
+    finally:
+        if folder is not None and folder.path is None:
+            if csv_file is not None and not csv_file.closed:
+                csv_file.close()
+            folder.discard()
+    if args.format == "json":
+        sys.stdout.write(to_json(body))
+    elif args.format == "csv":
+        import pandas as pd
+        sys.stdout.write(pd.concat(frames, ignore_index=True).to_csv(index=False))
+    elif args.format == "markdown":
+        sys.stdout.write(sweep_markdown(body))
+    else:
+        sweep_tables(_console(), body)
+    if saved is not None:
+        print(f"saved: {saved}", file=sys.stderr)
+    return 0
+
+
+class _progress:
+    """A rich progress bar on stderr when it is a terminal (and not --quiet); otherwise silent."""
+
+    def __init__(self, total: int, quiet: bool):
+        self.total, self.bar, self.task = total, None, None
+        if not quiet and sys.stderr.isatty():
+            from rich.console import Console
+            from rich.progress import BarColumn, MofNCompleteColumn, Progress, TimeRemainingColumn
+            self.bar = Progress("sweep", BarColumn(), MofNCompleteColumn(), TimeRemainingColumn(),
+                                console=Console(stderr=True), transient=True)
+
+    def __enter__(self):
+        if self.bar is None:
+            return None
+        self.bar.start()
+        self.task = self.bar.add_task("sweep", total=self.total)
+        return lambda done, total: self.bar.update(self.task, completed=done)
+
+    def __exit__(self, *exc):
+        if self.bar is not None:
+            self.bar.stop()
+        return False
+
+
+def _parquet_writer(folder):
+    """A streaming Parquet writer of the cases when pyarrow is installed, else None."""
+    try:
+        import pyarrow as pa
+        import pyarrow.parquet as pq
+    except ImportError:
+        return None
+
+    class _Writer:
+        def __init__(self):
+            self.w = None
+
+        def write(self, frame):
+            table = pa.Table.from_pandas(frame, preserve_index=False)
+            if self.w is None:
+                self.w = pq.ParquetWriter(str(folder.file("cases.parquet")), table.schema)
+            self.w.write_table(table.cast(self.w.schema))
+
+        def close(self):
+            if self.w is not None:
+                self.w.close()
+    return _Writer()
 
 
 def cmd_check(args) -> int:
@@ -301,7 +439,35 @@ def build_parser() -> argparse.ArgumentParser:
     c.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
     c.add_argument("--no-save", action="store_true", help="print only; write no files")
     c.add_argument("--strict", action="store_true", help="refuse values outside a model's validated range")
+    c.add_argument("--plot", action="store_true",
+                   help="also draw stacked bars of electricity, work equivalent of heat and the floor (PNG, SVG)")
     c.set_defaults(func=cmd_compare)
+
+    w = sub.add_parser("sweep", help="grids or Monte Carlo samples of one scenario: summaries, rankings, break-even",
+                       description="Evaluate one scenario over a grid of values (--vary, several give the Cartesian "
+                                   "product) or over samples of its [uncertainty] section (--samples), in vectorised "
+                                   "chunks. Prints percentiles per technology, the share of cases each ranks first "
+                                   "on cost, energy and emissions, and where along a grid the first place changes. "
+                                   "Saves summary.json, cases.csv (every case) and plots into a new folder under "
+                                   "results/ unless --no-save.")
+    w.add_argument("scenario", metavar="SCENARIO", help="scenario TOML file")
+    w.add_argument("--vary", action="append", metavar="K=GRID",
+                   help='a grid of one key: K=START:STOP:N (linear), K=START:STOP:N:log, or K=V1,V2,...; values with '
+                        'units, e.g. --vary "energy.heat_price=0 USD/kWh:0.06 USD/kWh:13" (repeatable)')
+    w.add_argument("--samples", type=int, metavar="N", help="N Monte Carlo samples of the [uncertainty] section")
+    w.add_argument("--seed", type=int, default=20261201, help="seed of the random generator (default 20261201)")
+    w.add_argument("--lhs", action="store_true", help="Latin hypercube sampling instead of plain random sampling")
+    w.add_argument("--chunk", type=int, metavar="N", help="cases per vectorised chunk (default about 20000 "
+                                                          "technology evaluations)")
+    w.add_argument("--set", action="append", metavar="K=V",
+                   help='override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)')
+    w.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    w.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
+    w.add_argument("--no-save", action="store_true", help="print only; write no files")
+    w.add_argument("--plot", action="store_true", help="draw the metrics against the grid, or their distributions "
+                                                        "(PNG, SVG into the run folder)")
+    w.add_argument("--quiet", action="store_true", help="no progress bar")
+    w.set_defaults(func=cmd_sweep)
 
     k = sub.add_parser("check", help="validate scenario files and print every resolved value with its source",
                        description="Validate scenario files and print the resolved scenario, each default with its "

@@ -19,11 +19,15 @@ def model_catalogue() -> list[dict]:
         {"kind": "density", "name": "nacl", "applies_to": "nacl",
          "validity": "0-230 g/kg, 0-40 degC; scaled by water expansion above",
          "reference": "CoolProp INCOMP::MNA"},
+        {"kind": "boiling-point elevation", "name": "activity", "applies_to": "every water activity model",
+         "validity": "that of the activity model", "reference": "T - T_sat(a_w p_sat(T)), IAPWS-95 saturation line; "
+                                                                "checked against Sharqawy et al. 2010 eq. 36"},
+        {"kind": "brine enthalpy", "name": "teos10", "applies_to": "seawater (others by equal salinity, flagged)",
+         "validity": "0-120 g/kg, 0-80 degC", "reference": "TEOS-10 (gsw.enthalpy_t_exact)"},
     ]
-    try:
-        from .tech.base import TECHNOLOGIES
-    except ImportError:
-        TECHNOLOGIES = {}
+    from .tech import load_builtin
+    from .tech.base import TECHNOLOGIES
+    load_builtin()
     for name, tech in TECHNOLOGIES.items():
         out.append({"kind": "technology", "name": name, "applies_to": "all waters", "validity": tech.validity,
                     "reference": tech.reference})

@@ -99,3 +99,10 @@ def test_python_dash_m_entry_point():
     out = subprocess.run([sys.executable, "-m", "compare", "floor", "--salinity", "3 g/kg", "--temperature",
                           "20 degC", "--format", "json"], capture_output=True, text=True, check=True)
     assert json.loads(out.stdout)["water_activity"] < 1
+
+
+def test_models_lists_the_built_in_technologies(capsys):
+    assert main(["models", "--format", "json"]) == 0
+    body = json.loads(capsys.readouterr().out)
+    techs = {r["name"] for r in body["models"] if r["kind"] == "technology"}
+    assert {"ro", "med", "fo"} <= techs

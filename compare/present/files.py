@@ -69,18 +69,25 @@ def to_csv(rows: list[dict]) -> str:
     return buf.getvalue()
 
 
-def write_atomic(path: Path, text: str) -> Path:
-    """Write ``text`` to ``path`` through a temporary file and a rename; refuses to replace an existing file."""
+def write_atomic(path: Path, data: str | bytes) -> Path:
+    """Write ``data`` (text or bytes) to ``path`` through a temporary file and a rename; refuses to replace an
+    existing file."""
     path = Path(path)
     if path.exists():
         raise FileExistsError(f"{path} exists; results are never overwritten")
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
+        if isinstance(data, bytes):
+            with os.fdopen(fd, "wb") as fh:
+                fh.write(data)
+                fh.flush()
+                os.fsync(fh.fileno())
+        else:
+            with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+                fh.write(data)
+                fh.flush()
+                os.fsync(fh.fileno())
         os.link(tmp, path)     # fails if path appeared meanwhile: no overwrite even under a race
     finally:
         os.unlink(tmp)
@@ -93,35 +100,67 @@ def _slug(text: str) -> str:
     return s[:40] or "run"
 
 
-def write_run(parent: Path, label: str, files: dict[str, str]) -> Path:
-    """Write ``files`` (name -> text) into a new run folder under ``parent``, atomically; returns the folder.
+class RunFolder:
+    """A run folder being written: files go into a hidden temporary folder that is renamed into place by
+    :meth:`commit`, so a run folder is either absent or whole. An existing folder is never reused (a numeric suffix
+    is added); :meth:`discard` (or leaving a ``with`` block by an exception) removes the temporary folder."""
 
-    The files go into a hidden temporary folder that is renamed into place when complete, so a run folder is either
-    absent or whole. An existing folder is never reused: a numeric suffix is added.
-    """
-    import datetime as _dt
+    def __init__(self, parent: Path, label: str):
+        import datetime as _dt
 
-    parent = Path(parent)
-    parent.mkdir(parents=True, exist_ok=True)
-    stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
-    base = f"{stamp}-{_slug(label)}"
-    tmp = Path(tempfile.mkdtemp(prefix=f".{base}.", dir=parent))
-    try:
-        for name, text in files.items():
-            write_atomic(tmp / name, text)
+        self.parent = Path(parent)
+        self.parent.mkdir(parents=True, exist_ok=True)
+        stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
+        self.base = f"{stamp}-{_slug(label)}"
+        self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.base}.", dir=self.parent))
+        self.path: Path | None = None
+
+    def write(self, name: str, data: str | bytes) -> Path:
+        return write_atomic(self.tmp / name, data)
+
+    def open(self, name: str, mode: str = "w"):
+        """A file in the folder to stream into (text mode unless ``"wb"``)."""
+        target = self.tmp / name
+        if target.exists():
+            raise FileExistsError(f"{name} written twice in one run folder")
+        return open(target, mode, **({} if "b" in mode else {"encoding": "utf-8", "newline": ""}))
+
+    def file(self, name: str) -> Path:
+        """The path a library may write ``name`` to itself (inside the temporary folder)."""
+        return self.tmp / name
+
+    def commit(self) -> Path:
         for k in range(1000):
-            target = parent / (base if k == 0 else f"{base}-{k + 1}")
+            target = self.parent / (self.base if k == 0 else f"{self.base}-{k + 1}")
             if target.exists():
                 continue
             try:
-                os.rename(tmp, target)      # a non-empty folder of that name makes this fail: never overwritten
+                os.rename(self.tmp, target)      # a non-empty folder of that name makes this fail: never overwritten
             except OSError:
                 if target.exists():
                     continue
                 raise
+            self.path = target
             return target
-        raise FileExistsError(f"no free run folder name under {parent}")
-    except BaseException:
+        raise FileExistsError(f"no free run folder name under {self.parent}")
+
+    def discard(self) -> None:
         import shutil
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
+        shutil.rmtree(self.tmp, ignore_errors=True)
+
+    def __enter__(self):
+        return self
+
+    def __exit__(self, exc_type, exc, tb):
+        if exc_type is not None or self.path is None:
+            self.discard()
+        return False
+
+
+def write_run(parent: Path, label: str, files: dict[str, str | bytes]) -> Path:
+    """Write ``files`` (name -> text or bytes) into a new run folder under ``parent``, atomically; returns the
+    folder (see :class:`RunFolder`)."""
+    with RunFolder(parent, label) as folder:
+        for name, data in files.items():
+            folder.write(name, data)
+        return folder.commit()

@@ -139,3 +139,56 @@ def print_compare(console: Console, payload: dict) -> None:
 def markdown_compare(payload: dict) -> str:
     return markdown_report(payload["scenario"], [(h.capitalize(), c, r) for h, c, r in compare_sections(payload)],
                            payload["warnings"])
+
+
+# ------------------------------------------------------------------------------------------------ sweeps
+SWEEP_METRICS = {"work_equivalent_kwh_per_m3": "work equivalent", "electricity_kwh_per_m3": "electricity",
+                 "heat_kwh_per_m3": "heat", "levelized_cost_per_m3": "levelised cost", "emissions_kg_per_m3": "CO2",
+                 "second_law_efficiency": "second-law efficiency"}
+
+
+def _band(row: dict) -> str:
+    if not row["n"]:
+        return "-"
+    return f"{fmt_number(row['p50'])} ({fmt_number(row['p10'])}-{fmt_number(row['p90'])})"
+
+
+def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
+    """The sweep summary as (heading, columns, rows) sections: percentiles, first places, break-even points."""
+    techs = list(dict.fromkeys(r["technology"] for r in body["summary"] if r["technology"] != "floor"))
+    by = {(r["technology"], r["metric"]): r for r in body["summary"]}
+    rows = [["feasible share"] + [f"{by[(t, 'electricity_kwh_per_m3')]['feasible_share']:.0%}" for t in techs]]
+    for m, label in SWEEP_METRICS.items():
+        unit = by[(techs[0], m)]["unit"] if techs else ""
+        rows.append([f"{label} [{unit}]"] + [_band(by[(t, m)]) for t in techs])
+    fl = by.get(("floor", "least_work_kwh_per_m3_zero_recovery"))
+    if fl:
+        rows.append(["floor: least work, zero recovery [kWh/m3]"] + [_band(fl)] * len(techs))
+    out = [(f"{body['scenario']}: {body['cases']} cases ({body['mode']}); p50 (p10-p90) over feasible cases",
+            ["metric"] + techs, rows)]
+    share_cols = techs + ["none feasible"]
+    out.append(("share of cases ranked first", ["criterion"] + share_cols,
+                [[r["criterion"]] + [f"{r['first_share'].get(t, 0):.0%}" for t in share_cols]
+                 for r in body["ranking"]]))
+    changes = [c for r in body["ranking"] for c in r.get("changes", [])]
+    if body["mode"] == "grid":
+        rows = []
+        for c in changes:
+            at = ", ".join(f"{k}={v:g}" for k, v in c["at"].items())
+            where = (f"{fmt_number(c['value'])} {c['unit']}" if c["kind"] == "crossing"
+                     else f"between {fmt_number(c['between'][0])} and {fmt_number(c['between'][1])} {c['unit']} "
+                          "(feasibility)")
+            rows.append([c["criterion"], f"{c['from'] or 'none'} -> {c['to'] or 'none'}", f"{c['key']} = {where}",
+                         at or "-"])
+        out.append(("where first place changes along the grid", ["criterion", "change", "at", "other keys"],
+                    rows or [["-", "no change along the grid", "-", "-"]]))
+    return out
+
+
+def sweep_tables(console: Console, body: dict) -> None:
+    tables = [rich_table(h, c, r) for h, c, r in sweep_sections(body)]
+    print_tables(console, tables, body.get("warnings", []))
+
+
+def sweep_markdown(body: dict) -> str:
+    return markdown_report(f"Sweep: {body['scenario']}", sweep_sections(body), body.get("warnings", []))

@@ -6,28 +6,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from compare.schema import OPTIONAL, parse_value
 from compare.tech import fo, ro
 from compare.tech.base import Feed
 from compare.thermo.activity import get_model
 from compare.thermo.floor import osmotic_pressure
+from tests.tech.helpers import params
 
 SEAWATER = get_model("teos10", "seawater")
 NACL = get_model("pitzer-nacl", "nacl")
 LMH = 1e-3 / 3600
-
-
-def params(mod, **over):
-    out = {}
-    for k, spec in mod.PARAMETERS.items():
-        raw = over.get(k, spec.default)
-        if isinstance(raw, np.ndarray) or spec.kind in ("choice", "flag"):
-            out[k] = raw
-        elif raw == OPTIONAL:
-            out[k] = None
-        else:
-            out[k] = parse_value(spec, raw, k)
-    return out
 
 
 def feed(S, T=298.15, model=SEAWATER, kind="seawater", S_p=5e-4):

@@ -6,28 +6,19 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from compare.schema import OPTIONAL, parse_value
 from compare.tech import med
 from compare.tech.base import Feed
 from compare.thermo import water
 from compare.thermo.activity import get_model
 from compare.thermo.brine import boiling_point_elevation
 from compare.thermo.floor import least_work
+from tests.tech.helpers import params as _params
 
 SEAWATER = get_model("teos10", "seawater")
 
 
 def params(**over):
-    out = {}
-    for k, spec in med.PARAMETERS.items():
-        raw = over.get(k, spec.default)
-        if isinstance(raw, np.ndarray) or spec.kind in ("choice", "flag"):
-            out[k] = raw
-        elif raw == OPTIONAL:
-            out[k] = None
-        else:
-            out[k] = parse_value(spec, raw, k)
-    return out
+    return _params(med, **over)
 
 
 def feed(S, T=303.15, model=SEAWATER, water_kind="seawater"):

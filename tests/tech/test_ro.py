@@ -5,21 +5,17 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from compare.schema import parse_value
 from compare.tech import ro
 from compare.tech.base import Feed
 from compare.thermo.activity import get_model
 from compare.thermo.floor import least_work, osmotic_pressure
+from tests.tech.helpers import params as _params
 
 SEAWATER = get_model("teos10", "seawater")
 
 
 def params(**over):
-    out = {}
-    for k, spec in ro.PARAMETERS.items():
-        raw = over.get(k, spec.default)
-        out[k] = raw if spec.kind == "choice" or isinstance(raw, np.ndarray) else parse_value(spec, raw, k)
-    return out
+    return _params(ro, **over)
 
 
 def feed(S, T=298.15, model=SEAWATER, water="seawater", S_p=0.0005):

@@ -1,0 +1,431 @@
+"""Sweeps: grids and Monte Carlo samples of a scenario, evaluated in vectorised chunks through the one pipeline,
+summarised per technology, ranked, and searched for break-even points.
+
+A sweep is a set of N cases, each a value for every varied key (SI, as the scenario holds them). Cases are handed to
+:func:`compare.pipeline.evaluate` in chunks (bounded memory), exactly as a single comparison is (``varied`` of
+length 1), so a grid point and a single run with ``--set`` agree to rounding. Per case and technology the sweep
+keeps the headline metrics in arrays and hands each chunk's rows to an optional sink (the streaming CSV writer).
+
+Grids: ``key=START:STOP:N`` (linear), ``key=START:STOP:N:log`` (log-spaced), ``key=V1,V2,...`` (a list); values carry
+units as in a scenario file. Several grids give the Cartesian product; the first varies slowest.
+
+Monte Carlo: the scenario's ``[uncertainty]`` entries (triangular, uniform, normal, lognormal), sampled by
+inverse-transform of uniforms from a seeded ``numpy.random.Generator``, or with Latin hypercube uniforms
+(``scipy.stats.qmc.LatinHypercube``) when asked. Samples outside a key's valid range are clipped to it and counted
+(reported as warnings); counts are rounded.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import InputError
+from .schema import Spec, parse_value
+from .scenario import Scenario, sections
+from .thermo.constants import J_PER_KWH
+
+#: headline metrics kept per case and technology: name -> (record field, unit label)
+METRICS = {
+    "electricity": ("electricity_kwh_per_m3", "kWh/m3"),
+    "heat": ("heat_kwh_per_m3", "kWh_th/m3"),
+    "work_equivalent": ("work_equivalent_kwh_per_m3", "kWh/m3"),
+    "least_work": ("least_work_kwh_per_m3", "kWh/m3"),
+    "second_law_efficiency": ("second_law_efficiency", "-"),
+    "lcow": ("levelized_cost_per_m3", "{currency}/m3"),
+    "emissions": ("emissions_kg_per_m3", "kg/m3"),
+}
+#: ranking criteria: name -> metric (lower is better)
+RANK_BY = {"cost": "lcow", "energy": "work_equivalent", "emissions": "emissions"}
+_SCALE = {"electricity": 1 / J_PER_KWH, "heat": 1 / J_PER_KWH, "work_equivalent": 1 / J_PER_KWH,
+          "least_work": 1 / J_PER_KWH}
+NOT_VARIABLE = ("choice", "flag", "table")
+
+
+# ---------------------------------------------------------------------------------------------- varied keys
+@dataclass(frozen=True)
+class Axis:
+    """One varied key of a grid: its SI values and how to show them."""
+
+    key: str
+    values: np.ndarray        # SI
+    unit: str                 # display unit
+    display: np.ndarray       # values in the display unit
+    show: object = None       # SI -> display function
+
+
+def _spec(key: str, where: str) -> Spec:
+    specs = sections()
+    if "." not in key:
+        raise InputError(f'{where}: expected a "section.key" such as ro.recovery, got "{key}"')
+    sec, name = key.split(".", 1)
+    if sec not in specs or name not in specs[sec]:
+        import difflib
+        pool = [f"{s}.{k}" for s in specs for k in specs[s]]
+        m = difflib.get_close_matches(key, pool, n=1, cutoff=0.5)
+        hint = f" (did you mean {m[0]!r}?)" if m else ""
+        raise InputError(f'{where}: expected a scenario key such as ro.recovery, got "{key}"{hint}')
+    spec = specs[sec][name]
+    if spec.kind in NOT_VARIABLE:
+        raise InputError(f"{where}: {key} is a {spec.kind} and cannot be varied in a sweep; run one sweep per value "
+                         f"with --set {key}=...")
+    return spec
+
+
+def _ctx(scenario: Scenario) -> dict:
+    return {"currency": scenario.currency, "water": scenario.values["feed"]["water"],
+            "temperature": float(np.mean(scenario.values["feed"]["temperature"]))}
+
+
+def _parse_one(spec: Spec, text: str, where: str, ctx: dict) -> float:
+    v = parse_value(spec, text.strip(), where, **ctx)
+    return float(np.mean(v)) if spec.kind == "temperatures" else float(v)
+
+
+def _display(spec: Spec, text: str, currency: str):
+    """(unit label, SI -> display function) for a key, after the unit the user wrote."""
+    from .units import parse_quantity, registry
+    if spec.kind in ("temperature", "temperatures"):
+        return "degC", lambda v: np.asarray(v) - 273.15
+    if spec.kind in ("salinity", "nacl_concentration"):
+        return "g/kg", lambda v: np.asarray(v) * 1e3
+    if spec.kind in ("fraction", "count"):
+        return "-", lambda v: np.asarray(v)
+    try:
+        q = parse_quantity(text.strip(), where="", expect="")
+        si_unit = f"{currency} * {spec.unit}" if spec.kind == "money" else spec.unit
+        factor = registry().Quantity(1.0, si_unit).to(q.units).magnitude
+        return f"{q.units:~}".replace(" ", ""), lambda v: np.asarray(v) * factor
+    except Exception:                     # noqa: BLE001 - display only; fall back to SI
+        return spec.unit or "-", lambda v: np.asarray(v)
+
+
+def parse_vary(text: str, scenario: Scenario) -> Axis:
+    """One ``--vary`` option into an :class:`Axis` (values checked by the key's own spec)."""
+    where = f"--vary {text}"
+    if "=" not in text:
+        raise InputError(f'--vary: expected key=START:STOP:N, key=START:STOP:N:log or key=V1,V2,..., got "{text}"')
+    key, body = (x.strip() for x in text.split("=", 1))
+    where = f"--vary {key}"
+    spec = _spec(key, where)
+    ctx = _ctx(scenario)
+    parts = body.split(":")
+    if len(parts) in (3, 4):
+        if len(parts) == 4 and parts[3].strip() != "log":
+            raise InputError(f'{where}: expected START:STOP:N or START:STOP:N:log, got "{body}"')
+        try:
+            n = int(parts[2])
+        except ValueError:
+            n = 0
+        if n < 2 or str(n) != parts[2].strip():
+            raise InputError(f'{where}: expected a number of points N of 2 or more, got "{parts[2].strip()}"')
+        a, b = (_parse_one(spec, x, where, ctx) for x in parts[:2])
+        if len(parts) == 4:
+            if a <= 0 or b <= 0:
+                raise InputError(f'{where}: a log-spaced grid needs values above zero, got "{body}"')
+            values = np.geomspace(a, b, n)
+        else:
+            values = np.linspace(a, b, n)
+        first = parts[0]
+    elif len(parts) == 1:
+        items = [x for x in body.split(",")]
+        if any(not x.strip() for x in items):
+            raise InputError(f'{where}: expected a list of values V1,V2,..., got "{body}"')
+        values = np.array([_parse_one(spec, x, where, ctx) for x in items])
+        first = items[0]
+    else:
+        raise InputError(f'{where}: expected START:STOP:N, START:STOP:N:log or V1,V2,..., got "{body}"')
+    if spec.kind == "count":
+        if not np.allclose(values, np.round(values)):
+            raise InputError(f'{where}: expected whole numbers for a count, got "{body}"')
+        values = np.round(values)
+    # every grid value must pass the key's own bounds (the ends were parsed; check the rest the same way)
+    for v in values:
+        _check_bounds(spec, v, where, body)
+    unit, show = _display(spec, first, scenario.currency)
+    return Axis(key, values, unit, show(values), show)
+
+
+def _check_bounds(spec: Spec, v: float, where: str, raw) -> None:
+    lo_bad = spec.lo is not None and (v <= spec.lo if spec.lo_open else v < spec.lo)
+    hi_bad = spec.hi is not None and (v >= spec.hi if spec.hi_open else v > spec.hi)
+    if lo_bad or hi_bad:
+        raise InputError(f'{where}: expected {spec.expect or "a value in range"}, got a grid value outside it in '
+                         f'"{raw}"')
+
+
+def grid_cases(axes: list[Axis]) -> dict[str, np.ndarray]:
+    """The Cartesian product of the axes, the first varying slowest: key -> (N,) SI values."""
+    if len({a.key for a in axes}) != len(axes):
+        raise InputError("--vary: each key may be varied once")
+    mesh = np.meshgrid(*[a.values for a in axes], indexing="ij")
+    return {a.key: m.ravel() for a, m in zip(axes, mesh)}
+
+
+# ---------------------------------------------------------------------------------------------- Monte Carlo
+def _ppf(dist: dict, u: np.ndarray) -> np.ndarray:
+    from scipy import stats
+    kind = dist["distribution"]
+    if kind == "uniform":
+        return dist["low"] + u * (dist["high"] - dist["low"])
+    if kind == "triangular":
+        lo, mode, hi = dist["low"], dist["mode"], dist["high"]
+        if hi == lo:
+            return np.full_like(u, lo)
+        return stats.triang.ppf(u, (mode - lo) / (hi - lo), loc=lo, scale=hi - lo)
+    if kind == "normal":
+        return stats.norm.ppf(u, loc=dist["mean"], scale=dist["sd"])
+    if kind == "lognormal":
+        return dist["median"] * np.exp(np.log(dist["gsd"]) * stats.norm.ppf(u))
+    raise AssertionError(kind)  # pragma: no cover
+
+
+def sample_cases(scenario: Scenario, n: int, seed: int | None, lhs: bool = False):
+    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, warnings about clipped samples)."""
+    unc = scenario.uncertainty
+    label = scenario.path or scenario.name
+    if not unc:
+        raise InputError(f"{label}: uncertainty: --samples needs an [uncertainty] section with at least one key")
+    if n < 1:
+        raise InputError(f"--samples: expected a number of samples of 1 or more, got {n}")
+    keys = sorted(unc)
+    specs = {k: _spec(k, f"{label}: uncertainty.{k}") for k in keys}
+    rng = np.random.default_rng(seed)
+    if lhs:
+        from scipy.stats import qmc
+        u = qmc.LatinHypercube(d=len(keys), seed=rng).random(n)
+    else:
+        u = rng.random((n, len(keys)))
+    u = np.clip(u, 1e-12, 1 - 1e-12)
+    out, warnings = {}, []
+    for j, k in enumerate(keys):
+        x = _ppf(unc[k], u[:, j])
+        spec = specs[k]
+        lo = -np.inf if spec.lo is None else spec.lo
+        hi = np.inf if spec.hi is None else spec.hi
+        eps_lo = abs(lo) * 1e-9 + 1e-12 if spec.lo_open else 0.0
+        eps_hi = abs(hi) * 1e-9 + 1e-12 if spec.hi_open else 0.0
+        bad = (x < lo + eps_lo) | (x > hi - eps_hi)
+        if bad.any():
+            warnings.append(f"uncertainty.{k}: {int(bad.sum())} of {n} samples fell outside the key's valid range "
+                            f"and were clipped to it")
+            x = np.clip(x, lo + eps_lo, hi - eps_hi)
+        if spec.kind == "count":
+            x = np.round(x)
+        out[k] = x
+    return out, warnings
+
+
+# ---------------------------------------------------------------------------------------------- evaluation
+@dataclass
+class SweepResult:
+    """Per case and technology metrics of a sweep, in record units (kWh/m3, currency/m3, kg/m3)."""
+
+    scenario: Scenario
+    mode: str                                  # "grid" | "samples"
+    cases: dict                                # key -> (N,) SI values
+    technologies: list                         # names
+    metrics: dict                              # tech -> metric -> (N,) (NaN where infeasible)
+    feasible: dict                             # tech -> (N,) bool
+    floor: np.ndarray                          # (N,) least work at zero recovery [kWh/m3]
+    axes: list = field(default_factory=list)   # grid axes
+    warnings: list = field(default_factory=list)
+    seed: int | None = None
+    lhs: bool = False
+
+    @property
+    def n(self) -> int:
+        return int(self.floor.size)
+
+
+def default_chunk(scenario: Scenario) -> int:
+    """Cases per chunk: about 20,000 technology evaluations, divided by the number of periods (12 for monthly)."""
+    M = np.size(scenario.values["feed"]["temperature"])
+    return max(1, 20000 // M)
+
+
+def run(scenario: Scenario, cases: dict, *, mode: str, chunk: int | None = None, progress=None, sink=None,
+        axes=None, warnings=None, seed=None, lhs=False) -> SweepResult:
+    """Evaluate every case in chunks. ``progress(done, total)`` is called after each chunk; ``sink(frame)`` gets
+    each chunk's rows (a pandas DataFrame, one row per case and technology)."""
+    from .pipeline import evaluate
+    n = len(next(iter(cases.values())))
+    chunk = chunk or default_chunk(scenario)
+    techs = list(scenario.technologies)
+    metrics = {t: {m: np.full(n, np.nan) for m in METRICS} for t in techs}
+    feasible = {t: np.zeros(n, dtype=bool) for t in techs}
+    floor = np.full(n, np.nan)
+    counts: dict[str, int] = {}
+    units = display_units(scenario, cases, axes)
+    for start in range(0, n, chunk):
+        stop = min(n, start + chunk)
+        part = {k: v[start:stop] for k, v in cases.items()}
+        res = evaluate(scenario, varied=part)
+        floor[start:stop] = res.floor["least_work_zero_recovery"] / J_PER_KWH
+        for t in res.technologies:
+            feasible[t.name][start:stop] = t.feasible
+            for m in METRICS:
+                val = np.asarray(t.arrays[m], dtype=float) * _SCALE.get(m, 1.0)
+                metrics[t.name][m][start:stop] = np.where(t.feasible, val, np.nan)
+        for ws in res.floor_warnings:
+            for w in ws:
+                counts[w] = counts.get(w, 0) + 1
+        for t in res.technologies:
+            for ws in t.warnings:
+                for w in ws:
+                    counts[f"{t.name}: {w}"] = counts.get(f"{t.name}: {w}", 0) + 1
+        if sink is not None:
+            sink(case_frame(res, start, {f"{k} [{units[k][0]}]": units[k][1](v) for k, v in part.items()}))
+        if progress is not None:
+            progress(stop, n)
+    notes = list(warnings or []) + [f"{w} (in {c} of {n} cases)" for w, c in counts.items()]
+    return SweepResult(scenario, mode, cases, techs, metrics, feasible, floor, list(axes or []), notes, seed, lhs)
+
+
+def display_units(scenario: Scenario, keys, axes=None) -> dict:
+    """key -> (unit label, SI -> display function): a grid axis's own unit, or for sampled keys the unit of the
+    scenario's value of that key."""
+    out = {}
+    by_key = {a.key: a for a in (axes or [])}
+    for key in keys:
+        spec = _spec(key, key)
+        if key in by_key:
+            out[key] = (by_key[key].unit, by_key[key].show)
+        else:
+            raw = scenario.texts.get(key)
+            raw = raw[0] if isinstance(raw, list) else raw
+            out[key] = _display(spec, raw if isinstance(raw, str) else "1", scenario.currency)
+    return out
+
+
+def case_frame(res, offset: int, shown: dict):
+    """One chunk's rows: a pandas DataFrame with a row per (case, technology)."""
+    import pandas as pd
+    n = res.n_cases
+    frames = []
+    base = {"case": np.arange(offset, offset + n), **shown,
+            "floor_least_work_kwh_per_m3": res.floor["least_work_zero_recovery"] / J_PER_KWH}
+    for t in res.technologies:
+        a = t.arrays
+        cols = dict(base)
+        cols.update({
+            "technology": t.name, "feasible": t.feasible,
+            "recovery": a["recovery"], "product_salinity_g_per_kg": a["product_salinity"] * 1e3,
+            "brine_salinity_g_per_kg": a["brine_salinity"] * 1e3,
+            "electricity_kwh_per_m3": a["electricity"] / J_PER_KWH, "heat_kwh_per_m3": a["heat"] / J_PER_KWH,
+            "heat_temperature_c": a["heat_temperature"] - 273.15,
+            "work_equivalent_kwh_per_m3": a["work_equivalent"] / J_PER_KWH,
+            "least_work_kwh_per_m3": a["least_work"] / J_PER_KWH,
+            "second_law_efficiency": a["second_law_efficiency"], "power_mw": a["power"] / 1e6,
+            "emissions_kg_per_m3": a["emissions"], "levelized_cost_per_m3": a["lcow"],
+            "currency": res.scenario.currency,
+            "warnings": ["; ".join(w) for w in t.warnings],
+        })
+        frames.append(pd.DataFrame(cols))
+    return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame(base)
+
+
+# ---------------------------------------------------------------------------------------------- summaries
+def _stats(x: np.ndarray, grid: bool) -> dict:
+    ok = x[np.isfinite(x)]
+    if ok.size == 0:
+        out = {"n": 0, "p10": None, "p50": None, "p90": None, "mean": None}
+    else:
+        p10, p50, p90 = np.percentile(ok, [10, 50, 90])
+        out = {"n": int(ok.size), "p10": float(p10), "p50": float(p50), "p90": float(p90), "mean": float(ok.mean())}
+    if grid:
+        out["min"] = float(ok.min()) if ok.size else None
+        out["max"] = float(ok.max()) if ok.size else None
+    return out
+
+
+def summary(sr: SweepResult) -> list[dict]:
+    """Per technology and headline metric: n, p10, p50, p90, mean (grids: min and max too), over feasible cases."""
+    out = []
+    grid = sr.mode == "grid"
+    for t in sr.technologies:
+        for m, (name, unit) in METRICS.items():
+            out.append({"technology": t, "metric": name, "unit": unit.format(currency=sr.scenario.currency),
+                        "feasible_share": float(sr.feasible[t].mean()), **_stats(sr.metrics[t][m], grid)})
+    out.append({"technology": "floor", "metric": "least_work_kwh_per_m3_zero_recovery", "unit": "kWh/m3",
+                "feasible_share": 1.0, **_stats(sr.floor, grid)})
+    return out
+
+
+def first_place(sr: SweepResult, criterion: str) -> np.ndarray:
+    """Per case, the index into ``sr.technologies`` of the best feasible technology on ``criterion`` (-1: none)."""
+    m = RANK_BY[criterion]
+    if not sr.technologies:
+        return np.full(sr.n, -1)
+    stack = np.vstack([np.where(np.isfinite(sr.metrics[t][m]), sr.metrics[t][m], np.inf) for t in sr.technologies])
+    best = np.argmin(stack, axis=0)
+    return np.where(np.isfinite(stack.min(axis=0)), best, -1)
+
+
+def break_even(sr: SweepResult, criterion: str) -> list[dict]:
+    """Along the first grid axis, for each combination of the others, where first place changes on ``criterion``:
+    the crossing of the two technologies' metric, interpolated linearly between the grid points (in SI, shown in the
+    axis's unit); where a technology becomes feasible or infeasible instead, the bracketing grid values."""
+    if sr.mode != "grid" or not sr.axes:
+        return []
+    shape = tuple(a.values.size for a in sr.axes)
+    first = first_place(sr, criterion).reshape(shape)
+    m = RANK_BY[criterion]
+    vals = {t: sr.metrics[t][m].reshape(shape) for t in sr.technologies}
+    ax = sr.axes[0]
+    out = []
+    for rest in np.ndindex(*shape[1:]):
+        at = {a.key: float(a.display[i]) for a, i in zip(sr.axes[1:], rest)}
+        for i in range(shape[0] - 1):
+            a_, b_ = first[(i,) + rest], first[(i + 1,) + rest]
+            if a_ == b_:
+                continue
+            x0, x1 = ax.values[i], ax.values[i + 1]
+            names = [sr.technologies[k] if k >= 0 else None for k in (a_, b_)]
+            entry = {"criterion": criterion, "key": ax.key, "unit": ax.unit, "from": names[0], "to": names[1],
+                     "at": at}
+            if a_ >= 0 and b_ >= 0:
+                d0 = vals[names[0]][(i,) + rest] - vals[names[1]][(i,) + rest]
+                d1 = vals[names[0]][(i + 1,) + rest] - vals[names[1]][(i + 1,) + rest]
+                if np.isfinite(d0) and np.isfinite(d1) and d0 != d1:
+                    x = x0 + (x1 - x0) * d0 / (d0 - d1)
+                    show = ax.display[i] + (ax.display[i + 1] - ax.display[i]) * (x - x0) / (x1 - x0)
+                    out.append({**entry, "kind": "crossing", "value": float(show), "value_si": float(x)})
+                    continue
+            out.append({**entry, "kind": "feasibility", "between": [float(ax.display[i]), float(ax.display[i + 1])]})
+    return out
+
+
+def ranking(sr: SweepResult) -> list[dict]:
+    """Per criterion: the share of cases each technology ranks first (and none), per-case first places for grids of
+    up to 10,000 points, and the break-even points along the grid."""
+    out = []
+    for crit in RANK_BY:
+        fp = first_place(sr, crit)
+        share = {t: float(np.mean(fp == i)) for i, t in enumerate(sr.technologies)}
+        share["none feasible"] = float(np.mean(fp < 0))
+        entry = {"criterion": crit, "metric": METRICS[RANK_BY[crit]][0], "first_share": share}
+        if sr.mode == "grid":
+            if sr.n <= 10000:
+                entry["first_by_case"] = [sr.technologies[i] if i >= 0 else None for i in fp]
+            entry["changes"] = break_even(sr, crit)
+        out.append(entry)
+    return out
+
+
+def payload(sr: SweepResult) -> dict:
+    """The JSON summary of DESIGN's contract."""
+    from .present import CAUTION
+    body = {"scenario": sr.scenario.name, "cases": sr.n, "mode": sr.mode, "varied": list(sr.cases),
+            "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "notice": CAUTION}
+    if sr.mode == "grid":
+        body["grid"] = [{"key": a.key, "unit": a.unit, "values": a.display.tolist()} for a in sr.axes]
+    else:
+        body["sampling"] = {"seed": sr.seed, "latin_hypercube": sr.lhs,
+                            "distributions": sr.scenario.uncertainty}
+    return body
+
+
+__all__ = ["Axis", "SweepResult", "parse_vary", "grid_cases", "sample_cases", "run", "summary", "ranking",
+           "break_even", "first_place", "payload", "METRICS", "RANK_BY"]
