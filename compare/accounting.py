@@ -15,8 +15,6 @@ from __future__ import annotations
 
 import numpy as np
 
-from .thermo import water as _water
-
 SECONDS_PER_YEAR = 365.0 * 86400.0
 DAYS_IN_MONTH = np.array([31, 28.25, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31], dtype=float)
 

@@ -96,7 +96,9 @@ def _display(spec: Spec, text: str, currency: str):
         q = parse_quantity(text.strip(), where="", expect="")
         si_unit = f"{currency} * {spec.unit}" if spec.kind == "money" else spec.unit
         factor = registry().Quantity(1.0, si_unit).to(q.units).magnitude
-        return f"{q.units:~}".replace(" ", ""), lambda v: np.asarray(v) * factor
+        import re
+        label = re.sub(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*", "", text.strip()) or f"{q.units:~}"
+        return label.replace(" ", ""), lambda v: np.asarray(v) * factor
     except Exception:                     # noqa: BLE001 - display only; fall back to SI
         return spec.unit or "-", lambda v: np.asarray(v)
 

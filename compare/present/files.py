@@ -140,6 +140,9 @@ class RunFolder:
                 if target.exists():
                     continue
                 raise
+            mask = os.umask(0)
+            os.umask(mask)
+            os.chmod(target, 0o777 & ~mask)     # mkdtemp made it private; a run folder is as readable as any
             self.path = target
             return target
         raise FileExistsError(f"no free run folder name under {self.parent}")
