@@ -262,6 +262,7 @@ def _group(feed, p, idx, N, tvc, size):
         "exceed the step between effects)": np.any(dT_eff <= 0.05, axis=0),
         "MED last effect too close to the seawater temperature to run the condenser": T_cw <= T_sw + 0.5,
         "MED brine salinity limit (med.brine_salinity) not above the feed salinity": S_max <= S_f,
+        "MED last brine temperature not below the top brine temperature": T_N >= T1,
         "MED condenser's seawater flow is less than the evaporator feed it must supply": M_cw < 1.0,
         "MED balances gave a negative flow (the temperature range cannot carry this many effects)":
             np.any(out["V"] <= 0, axis=0) | np.any(out["B"] <= 0, axis=0) | (M <= 0),

@@ -141,6 +141,8 @@ def test_limits_and_flags():
     assert list(hot.flags[ranged]) == [False, True]            # TEOS-10 to 80 degC
     weak = med.evaluate(feed([0.035]), params(brine_salinity="30 g/kg"))
     assert not weak.feasible[0]
+    upside = med.evaluate(feed([0.035]), params(top_brine_temperature="45 degC", last_brine_temperature="50 degC"))
+    assert upside.infeasible["MED last brine temperature not below the top brine temperature"][0]
 
 
 @settings(max_examples=15, deadline=None)
