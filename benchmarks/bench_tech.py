@@ -11,7 +11,7 @@ import time
 
 import numpy as np
 
-from compare.schema import parse_value
+from compare.schema import parse_defaults, parse_value
 from compare.tech import TECHNOLOGIES, Feed, load_builtin
 from compare.thermo.activity import get_model
 
@@ -23,21 +23,12 @@ SPREAD = {
 }
 
 
-def defaults(tech):
-    from compare.schema import OPTIONAL
-    out = {}
-    for k, s in tech.parameters.items():
-        out[k] = None if s.default == OPTIONAL else s.default if s.kind in ("choice", "flag") \
-            else parse_value(s, s.default, k)
-    return out
-
-
 def cases(tech, n, rng):
     model = get_model("teos10", "seawater")
     S = rng.uniform(0.025, 0.045, n)
     T = rng.uniform(288.15, 303.15, n)
     feed = Feed(model, "seawater", S, T, np.full(n, 0.0005), np.full(n, 393.15), np.full(n, 1.0))
-    p = defaults(tech)
+    p = parse_defaults(tech.parameters)
     for key, (lo, hi) in SPREAD.get(tech.name, {}).items():
         spec = tech.parameters[key]
         a, b = parse_value(spec, lo, key), parse_value(spec, hi, key)

@@ -198,13 +198,7 @@ def cmd_compare(args) -> int:
     from .present.tables import markdown_compare, print_compare
     from .runrecord import run_record
 
-    if args.out and args.no_save:
-        raise InputError("--out and --no-save: expected one of them, got both")
-    if args.plot:
-        if args.no_save:
-            raise InputError("--plot: expected a run folder to write the plots into, got --no-save")
-        from .present.plots import available
-        available()
+    _check_save_arguments(args)
     scenarios = _load_all(args.scenario, args.set or [])
     results = [evaluate(s) for s in scenarios]
     if args.strict:
@@ -250,18 +244,12 @@ def cmd_sweep(args) -> int:
     from .present.tables import sweep_markdown, sweep_tables
     from .runrecord import run_record
 
-    if args.out and args.no_save:
-        raise InputError("--out and --no-save: expected one of them, got both")
+    _check_save_arguments(args)
     if bool(args.vary) == (args.samples is not None):
         raise InputError("sweep: expected either --vary (a grid) or --samples (Monte Carlo), got "
                          + ("both" if args.vary else "neither"))
     if args.chunk is not None and args.chunk < 1:
         raise InputError(f"--chunk: expected a number of cases of 1 or more, got {args.chunk}")
-    if args.plot:
-        if args.no_save:
-            raise InputError("--plot: expected a run folder to write the plots into, got --no-save")
-        from .present.plots import available
-        available()
     scenario = _load_all([args.scenario], args.set or [])[0]
     if args.vary:
         axes = [sw.parse_vary(v, scenario) for v in args.vary]
@@ -400,12 +388,33 @@ def _show_value(v):
 
 
 # ------------------------------------------------------------------------------------------------------ parser
-def _scenario_arguments(p: argparse.ArgumentParser) -> None:
+def _scenario_arguments(p: argparse.ArgumentParser, many: bool = True) -> None:
     """The arguments every command that reads scenario files takes."""
-    p.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
+    if many:
+        p.add_argument("scenario", nargs="+", metavar="SCENARIO", help="scenario TOML file(s)")
+    else:
+        p.add_argument("scenario", metavar="SCENARIO", help="scenario TOML file")
     p.add_argument("--set", action="append", metavar="K=V",
                    help='override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)')
     p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+
+
+def _save_arguments(p: argparse.ArgumentParser, plot_help: str) -> None:
+    """The arguments of the commands that save a run folder."""
+    p.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
+    p.add_argument("--no-save", action="store_true", help="print only; write no files")
+    p.add_argument("--plot", action="store_true", help=plot_help)
+
+
+def _check_save_arguments(args) -> None:
+    """Refuse contradictory saving options, and --plot without matplotlib, before any work is done."""
+    if args.out and args.no_save:
+        raise InputError("--out and --no-save: expected one of them, got both")
+    if args.plot:
+        if args.no_save:
+            raise InputError("--plot: expected a run folder to write the plots into, got --no-save")
+        from .present.plots import available
+        available()
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -436,11 +445,8 @@ def build_parser() -> argparse.ArgumentParser:
                        description="Evaluate every enabled technology for each scenario on the same assumptions and "
                                    "print them side by side. Saves a new folder under results/ unless --no-save.")
     _scenario_arguments(c)
-    c.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
-    c.add_argument("--no-save", action="store_true", help="print only; write no files")
+    _save_arguments(c, "also draw stacked bars of electricity, work equivalent of heat and the floor (PNG, SVG)")
     c.add_argument("--strict", action="store_true", help="refuse values outside a model's validated range")
-    c.add_argument("--plot", action="store_true",
-                   help="also draw stacked bars of electricity, work equivalent of heat and the floor (PNG, SVG)")
     c.set_defaults(func=cmd_compare)
 
     w = sub.add_parser("sweep", help="grids or Monte Carlo samples of one scenario: summaries, rankings, break-even",
@@ -450,7 +456,7 @@ def build_parser() -> argparse.ArgumentParser:
                                    "on cost, energy and emissions, and where along a grid the first place changes. "
                                    "Saves summary.json, cases.csv (every case) and plots into a new folder under "
                                    "results/ unless --no-save.")
-    w.add_argument("scenario", metavar="SCENARIO", help="scenario TOML file")
+    _scenario_arguments(w, many=False)
     w.add_argument("--vary", action="append", metavar="K=GRID",
                    help='a grid of one key: K=START:STOP:N (linear), K=START:STOP:N:log, or K=V1,V2,...; values with '
                         'units, e.g. --vary "energy.heat_price=0 USD/kWh:0.06 USD/kWh:13" (repeatable)')
@@ -459,13 +465,7 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--lhs", action="store_true", help="Latin hypercube sampling instead of plain random sampling")
     w.add_argument("--chunk", type=int, metavar="N", help="cases per vectorised chunk (default about 20000 "
                                                           "technology evaluations)")
-    w.add_argument("--set", action="append", metavar="K=V",
-                   help='override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)')
-    w.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
-    w.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
-    w.add_argument("--no-save", action="store_true", help="print only; write no files")
-    w.add_argument("--plot", action="store_true", help="draw the metrics against the grid, or their distributions "
-                                                        "(PNG, SVG into the run folder)")
+    _save_arguments(w, "draw the metrics against the grid, or their distributions (PNG, SVG into the run folder)")
     w.add_argument("--quiet", action="store_true", help="no progress bar")
     w.set_defaults(func=cmd_sweep)
 

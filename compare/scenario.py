@@ -124,7 +124,8 @@ def sections() -> dict[str, dict[str, Spec]]:
     return out
 
 
-def _nearest(word: str, options) -> str:
+def nearest(word: str, options) -> str:
+    """A hint naming the closest of ``options`` to ``word`` ("did you mean ...?"), or an empty string."""
     m = difflib.get_close_matches(word, list(options), n=1, cutoff=0.5)
     return f" (did you mean {m[0]!r}?)" if m else ""
 
@@ -177,10 +178,10 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
             continue
         seen[dotted] = text
         if sec not in specs:
-            errors.append(f"--set {dotted}: unknown section {sec!r}{_nearest(sec, specs)}")
+            errors.append(f"--set {dotted}: unknown section {sec!r}{nearest(sec, specs)}")
             continue
         if key not in specs[sec]:
-            errors.append(f"--set {dotted}: unknown key {key!r} in [{sec}]{_nearest(key, specs[sec])}")
+            errors.append(f"--set {dotted}: unknown key {key!r} in [{sec}]{nearest(key, specs[sec])}")
             continue
         data.setdefault(sec, {})
         if not isinstance(data[sec], dict):
@@ -197,7 +198,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
 
     for sec, body in data.items():
         if sec not in specs:
-            errors.append(f"{label}: [{sec}]: unknown section{_nearest(sec, specs)}")
+            errors.append(f"{label}: [{sec}]: unknown section{nearest(sec, specs)}")
         elif not isinstance(body, dict):
             errors.append(f"{label}: {sec}: expected a table [{sec}], got {body!r}")
 
@@ -210,7 +211,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
             body = {}
         for key in body:
             if key not in specs[sec]:
-                errors.append(f"{label}: {sec}.{key}: unknown key{_nearest(key, specs[sec])}")
+                errors.append(f"{label}: {sec}.{key}: unknown key{nearest(key, specs[sec])}")
         values[sec] = {}
         for key in _resolve_order(specs[sec]):
             spec = specs[sec][key]
@@ -295,7 +296,7 @@ def _cross_checks(values, label, errors):
         parsed = {}
         for ion, raw in ions.items():
             if ion not in IONS:
-                errors.append(f"{label}: feed.ions.{ion}: unknown ion{_nearest(ion, IONS)}; expected one of "
+                errors.append(f"{label}: feed.ions.{ion}: unknown ion{nearest(ion, IONS)}; expected one of "
                               f"{', '.join(IONS)}")
                 continue
             try:

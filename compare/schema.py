@@ -48,7 +48,8 @@ class Spec:
         return self.default is None
 
 
-def _bounds(spec: Spec, value: float, where: str, raw) -> None:
+def check_bounds(spec: Spec, value: float, where: str, raw) -> None:
+    """One-line error when ``value`` (SI) is outside the spec's bounds; ``raw`` is what the user wrote."""
     lo_bad = spec.lo is not None and (value <= spec.lo if spec.lo_open else value < spec.lo)
     hi_bad = spec.hi is not None and (value >= spec.hi if spec.hi_open else value > spec.hi)
     if lo_bad or hi_bad:
@@ -82,7 +83,7 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
             v = None
         if v is None:
             raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return v
     if k == "table":
         if not isinstance(raw, dict):
@@ -90,7 +91,7 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
         return raw
     if k == "temperature":
         v = parse_temperature(raw, where=where)
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return v
     if k == "temperatures":
         if isinstance(raw, list):
@@ -99,16 +100,16 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
                                  f"{len(raw)}")
             vals = [parse_temperature(x, where=f"{where}[{i}]") for i, x in enumerate(raw)]
             for i, (v, x) in enumerate(zip(vals, raw)):
-                _bounds(spec, v, f"{where}[{i}]", x)
+                check_bounds(spec, v, f"{where}[{i}]", x)
             return np.array(vals)
         v = parse_temperature(raw, where=where)
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return np.array([v])
     if k == "salinity":
         kind, v = parse_salinity(raw, where=where)
         if kind == "concentration":
             v = float(mass_fraction_from_concentration(v, temperature, water))
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return v
     if k == "nacl_concentration":
         # a molality of NaCl ("1.5 mol/kg", per kg of water) or a mass fraction ("80 g/kg"), as a mass fraction
@@ -118,12 +119,14 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
         q = parse_quantity(raw, where=where, expect=spec.expect)
         if q.dimensionality == registry().get_dimensionality("[substance]/[mass]"):
             m = float(q.to("mol/kg").magnitude)
-            v = m * M_NACL / (1 + m * M_NACL) if m >= 0 else -1.0
+            if m < 0:
+                raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+            v = m * M_NACL / (1 + m * M_NACL)
         elif q.dimensionless and str(q.units) != "dimensionless":
             v = float(q.to("").magnitude)
         else:
             raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return v
     if k == "fraction":
         if isinstance(raw, bool):
@@ -132,7 +135,7 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
         if not q.dimensionless:
             raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
         v = float(q.to("").magnitude)
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return v
     if k in ("quantity", "money"):
         if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
@@ -151,7 +154,7 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
         if q.dimensionality != target.dimensionality:
             raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
         v = float(q.to(target).magnitude)
-        _bounds(spec, v, where, raw)
+        check_bounds(spec, v, where, raw)
         return v
     raise AssertionError(f"unknown spec kind {k}")  # pragma: no cover
 
@@ -163,3 +166,19 @@ def efficiency(default, source, what="an efficiency") -> Spec:
 
 
 __all__ = ["Spec", "parse_value", "efficiency", "SALINITY_EXPECT"]
+
+
+def parse_defaults(specs: dict[str, Spec], **over) -> dict:
+    """A technology's parameters in SI from its specs' defaults, with ``over`` (raw texts, or arrays and choices as
+    they are) in their place; keys whose default is :data:`OPTIONAL` give None. For tests and benchmarks that call a
+    technology without a scenario file."""
+    out = {}
+    for key, spec in specs.items():
+        raw = over.get(key, spec.default)
+        if isinstance(raw, np.ndarray) or spec.kind in ("choice", "flag"):
+            out[key] = raw
+        elif isinstance(raw, str) and raw == OPTIONAL:
+            out[key] = None
+        else:
+            out[key] = parse_value(spec, raw, key)
+    return out

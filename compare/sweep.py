@@ -22,8 +22,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .errors import InputError
-from .schema import Spec, parse_value
-from .scenario import Scenario, sections
+from .schema import Spec, check_bounds, parse_value
+from .scenario import Scenario, nearest, sections
 from .thermo.constants import J_PER_KWH
 
 #: headline metrics kept per case and technology: name -> (record field, unit label)
@@ -61,10 +61,7 @@ def _spec(key: str, where: str) -> Spec:
         raise InputError(f'{where}: expected a "section.key" such as ro.recovery, got "{key}"')
     sec, name = key.split(".", 1)
     if sec not in specs or name not in specs[sec]:
-        import difflib
-        pool = [f"{s}.{k}" for s in specs for k in specs[s]]
-        m = difflib.get_close_matches(key, pool, n=1, cutoff=0.5)
-        hint = f" (did you mean {m[0]!r}?)" if m else ""
+        hint = nearest(key, [f"{s}.{k}" for s in specs for k in specs[s]])
         raise InputError(f'{where}: expected a scenario key such as ro.recovery, got "{key}"{hint}')
     spec = specs[sec][name]
     if spec.kind in NOT_VARIABLE:
@@ -105,7 +102,6 @@ def _display(spec: Spec, text: str, currency: str):
 
 def parse_vary(text: str, scenario: Scenario) -> Axis:
     """One ``--vary`` option into an :class:`Axis` (values checked by the key's own spec)."""
-    where = f"--vary {text}"
     if "=" not in text:
         raise InputError(f'--vary: expected key=START:STOP:N, key=START:STOP:N:log or key=V1,V2,..., got "{text}"')
     key, body = (x.strip() for x in text.split("=", 1))
@@ -144,17 +140,9 @@ def parse_vary(text: str, scenario: Scenario) -> Axis:
         values = np.round(values)
     # every grid value must pass the key's own bounds (the ends were parsed; check the rest the same way)
     for v in values:
-        _check_bounds(spec, v, where, body)
+        check_bounds(spec, v, where, body)
     unit, show = _display(spec, first, scenario.currency)
     return Axis(key, values, unit, show(values), show)
-
-
-def _check_bounds(spec: Spec, v: float, where: str, raw) -> None:
-    lo_bad = spec.lo is not None and (v <= spec.lo if spec.lo_open else v < spec.lo)
-    hi_bad = spec.hi is not None and (v >= spec.hi if spec.hi_open else v > spec.hi)
-    if lo_bad or hi_bad:
-        raise InputError(f'{where}: expected {spec.expect or "a value in range"}, got a grid value outside it in '
-                         f'"{raw}"')
 
 
 def grid_cases(axes: list[Axis]) -> dict[str, np.ndarray]:

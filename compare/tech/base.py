@@ -95,5 +95,11 @@ def register(tech: Technology) -> Technology:
     return tech
 
 
+def take(arrays: dict, idx) -> dict:
+    """The cases ``idx`` of a dict of per-case (N,) arrays; scalars and other values pass through. For models that
+    solve a subset of cases (those still iterating, or one structural group)."""
+    return {key: (v[idx] if isinstance(v, np.ndarray) and v.ndim == 1 else v) for key, v in arrays.items()}
+
+
 def unregister(name: str) -> None:
     TECHNOLOGIES.pop(name, None)

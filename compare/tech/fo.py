@@ -58,9 +58,10 @@ from ..thermo.activity import get_model
 from ..thermo.constants import M_NACL, T0_C
 from ..thermo.floor import osmotic_table
 from . import ro as _ro
-from .base import Feed, Performance, Technology, register
+from .base import Feed, Performance, Technology, register, take
 
 LMH = 1e-3 / 3600.0
+COLD_END_APPROACH = 5.0   # [K] thermal regenerator's last condenser above the feed (practice, no source)
 
 #: RO keys that the FO regenerator takes from ``[fo.regenerator]``, with the defaults it changes
 _RO_OWN = {"recovery", "capital_cost", "fixed_om"}
@@ -141,11 +142,8 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, iteration
     def interfaces(J):
         Jc = np.maximum(J, 1e-30)
         with np.errstate(over="ignore"):
-            return _interfaces(Jc)
-
-    def _interfaces(Jc):
-        a = np.where(inv_k > 0, np.expm1(Jc * inv_k) / Jc, 0.0)       # (exp(J/k) - 1)/J -> 1/k
-        b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)            # (1 - exp(-J K))/J -> K
+            a = np.where(inv_k > 0, np.expm1(Jc * inv_k) / Jc, 0.0)   # (exp(J/k) - 1)/J -> 1/k
+            b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)        # (1 - exp(-J K))/J -> K
         # the draw solute's difference across the active layer (none of it in the bulk feed):
         # c_D,i - c_F,m^draw = c_D (1 - J b) - J_s (a + b), J_s = B x that difference
         Js = B * c_D * (1 - Jc * b) / (1 + B * (a + b))
@@ -186,7 +184,7 @@ def _exchanger(S_f, T, r, S_din, m_din, A, B, S_struct, D, k, pi_D, pi_F, rho, s
                 salt_in=salt_in)
 
     def march(guess, idx):
-        a = {key: (v[idx] if np.ndim(v) else v) for key, v in args.items()}
+        a = take(args, idx)
         T_, A_, B_, Ss, D_, k_, rho_, dm_ = (a[x] for x in ("T", "A", "B", "S_struct", "D", "k", "rho", "dm"))
         Qf, sf = np.ones(idx.size), a["S_f"].copy()
         md, sd = a["m_din"] + a["r"], a["salt_in"] - guess
@@ -270,6 +268,8 @@ def evaluate(feed: Feed, p: dict) -> Performance:
     if p["regeneration"] == "ro":
         # the diluted draw is the RO feed; recovery returns it to the draw strength (product r per m_dout)
         r_ro = r / m_dout
+        # where the exchanger failed its draw-out salinity is meaningless: give the regenerator a harmless stand-in
+        # (the case is infeasible and reported as NaN anyway)
         reg_feed = Feed(draw_model, "nacl", np.where(reached, S_dout, S_din * 0.5), T, b(feed.product_salinity),
                         b(feed.heat_temperature), b(feed.capacity))
         reg_p = {**reg, "recovery": r_ro, "capital_cost": 0.0, "fixed_om": 0.0}
@@ -294,7 +294,7 @@ def evaluate(feed: Feed, p: dict) -> Performance:
         gor = b(reg["gain_output_ratio"])
         T_reg = b(reg["heat_temperature"])
         bpe = _brine.boiling_point_elevation(draw_model, S_din, T_reg)
-        T_low = T + 5.0                               # the cold end condenses against the feed (5 K, practice)
+        T_low = T + COLD_END_APPROACH                 # the cold end condenses against the feed
         needed = T_low + gor * (bpe + b(reg["temperature_difference"]))
         infeasible["FO thermal regenerator: regenerator.heat_temperature is too low for the effects it must drive "
                    "(gain output ratio x (draw BPE + temperature difference) above the feed)"] = T_reg < needed

@@ -135,7 +135,7 @@ def _march(M, st, N, tvc, k_suc, Ra, parallel):
     n = M.shape[0]
     zeros = np.zeros(n)
     V, Vph, Fl, Dx, Q, B, salt, F = ([zeros] * N for _ in range(8))
-    hv, hb, hf, hlc, hgc = st["h_v"], st["h_b"], st["h_f"], st["h_lc"], st["h_gc"]
+    hv, hb, hf, hlc, hgc = st["h_v"], st["h_b"], st["h_fp"], st["h_lc"], st["h_gc"]
     rec = st["rec"]
     E = M / Ra if tvc else zeros                    # entrained vapour
     if tvc:
@@ -158,7 +158,7 @@ def _march(M, st, N, tvc, k_suc, Ra, parallel):
         W = W + F[i]
         if i < N - 1:
             # preheater i heats the feed of effects 1..i from the level of effect i+1 to its own
-            Vph[i] = W * (st["h_fp"][i] - st["h_fp"][i + 1]) / (hv[i] - hlc[i])
+            Vph[i] = W * (hf[i] - hf[i + 1]) / (hv[i] - hlc[i])
         if i >= 1:
             # flash box i: condensate of effect i's tubes and of preheater i-1 (at the condensing temperature of
             # line i-1) and the distillate of box i-1 flash to the condensing temperature of line i
@@ -177,7 +177,7 @@ def _march(M, st, N, tvc, k_suc, Ra, parallel):
         C_prev = to_next + Fl[i]
         B_prev, salt_prev, hb_prev = B[i], salt[i], hb[i]
     return dict(V=np.array(V), Vph=np.array(Vph), Fl=np.array(Fl), Dx=np.array(Dx), Q=np.array(Q), B=np.array(B),
-                salt=np.array(salt), F=np.array(F), Q_cond=duty, C_cond=C_prev, E=E)
+                salt=np.array(salt), F=np.array(F), Q_cond=duty, E=E)
 
 
 def _group(feed, p, idx, N, tvc, size):
@@ -223,7 +223,6 @@ def _group(feed, p, idx, N, tvc, size):
         st.update(h_v=_water.vapour_enthalpy(T - bpe), h_b=_brine.enthalpy(S_safe, T),
                   h_fp=_brine.enthalpy(S_f[None, :] + 0 * T, T_fp), h_lc=_water.liquid_enthalpy(T_c),
                   h_gc=_water.vapour_enthalpy(T_c))
-        st["h_f"] = st["h_fp"]
         Ra = np.inf
         if tvc:
             Ra, ra_ok = entrainment_ratio(p_m, p_s, p_v[k_suc], T[k_suc] - bpe[k_suc])
@@ -250,8 +249,7 @@ def _group(feed, p, idx, N, tvc, size):
         area_e = out["Q"] / (u_evaporator(T) * dT_eff)
         area_ph = np.zeros(n)
         for i in range(N - 1):
-            W = out["F"][: i + 1].sum(axis=0)
-            duty = W * (st["h_fp"][i] - st["h_fp"][i + 1])
+            duty = out["Vph"][i] * (st["h_v"][i] - st["h_lc"][i])          # the heat its vapour gives up
             area_ph = area_ph + np.where(duty > 0, duty / (u_condenser(T_c[i]) * _lmtd(T_c[i], T_fp[i + 1],
                                                                                          T_fp[i])), 0.0)
         area_c = out["Q_cond"] / (u_condenser(T_c[-1]) * _lmtd(T_c[-1], T_sw, T_cw))
@@ -280,8 +278,7 @@ def _group(feed, p, idx, N, tvc, size):
         ~v.salinity_ok(np.clip(S[-1], 0, None)) | ~v.temperature_ok(T1))
     return dict(D=D, M=M, heat=heat, T_heat=T_heat, S_b=S[-1], T_b=T[-1], T_d=T_c[-1], M_cw=M_cw, T_cw=T_cw,
                 area=area_e.sum(axis=0) + area_ph + area_c, T_s=T_s, rec=rec, bpe_last=bpe[-1],
-                step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, flags=flags,
-                h_gs=st["h_gs"], h_ls=st["h_ls"])
+                step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, flags=flags)
 
 
 def evaluate(feed: Feed, p: dict) -> Performance:
@@ -298,7 +295,7 @@ def evaluate(feed: Feed, p: dict) -> Performance:
     fd = Feed(feed.model, feed.water, full(feed.salinity), full(feed.temperature), full(feed.product_salinity),
               full(feed.heat_temperature), full(feed.capacity))
     keys = ("D", "M", "heat", "T_heat", "S_b", "T_b", "T_d", "M_cw", "T_cw", "area", "T_s", "rec", "bpe_last",
-            "step", "E", "Ra", "h_gs", "h_ls")
+            "step", "E", "Ra")
     res = {key: np.full(size, np.nan) for key in keys}
     bad, flags = {}, {}
     for N in np.unique(N_all):              # one group per effect count (at most 15), never a loop over cases

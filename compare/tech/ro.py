@@ -55,7 +55,7 @@ import numpy as np
 from ..schema import Spec, efficiency
 from ..thermo import brine as _brine
 from ..thermo.floor import osmotic_table
-from .base import Feed, Performance, Technology, register
+from .base import Feed, Performance, Technology, register, take
 
 LMH = 1e-3 / 3600.0            # 1 L/(m^2 h) in m/s
 BAR = 1e5
@@ -235,10 +235,6 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
     """Feed pressure [Pa] at which the needed membrane area equals the design area, for all cases at once.
     Returns (P, reachable): reachable is False where no pressure up to :data:`P_SEARCH_MAX` suffices."""
     n = c["S_in"].size
-
-    def sub(idx):
-        return {key: (v[idx] if isinstance(v, np.ndarray) and v.shape == (n,) else v) for key, v in c.items()}
-
     pi_in = c["pi"](c["S_in"], c["T"])
     lo = pi_in.copy()
     f_lo = -np.ones(n)
@@ -257,7 +253,7 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
         f_lo = np.where(short, f_hi, f_lo)
         hi_new = np.minimum(hi + 2 * (hi - pi_in), P_SEARCH_MAX)
         idx = np.flatnonzero(short)
-        f_hi[idx] = _g(_march(hi_new[idx], sub(idx), shares, n_seg))
+        f_hi[idx] = _g(_march(hi_new[idx], take(c, idx), shares, n_seg))
         hi = np.where(short, hi_new, hi)
     reachable = f_hi > 0
     P = hi.copy()
@@ -272,7 +268,7 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
         # after a trial on the plateau of infinite area (driving force gone before the end), regula falsi has no
         # slope to go on: bisect instead
         Pa = np.where(plateau[active], 0.5 * (a_lo + a_hi), np.clip(Pa, a_lo, a_hi))
-        fP = _g(_march(Pa, sub(active), shares, n_seg))
+        fP = _g(_march(Pa, take(c, active), shares, n_seg))
         P[active] = Pa
         upper = fP > 0
         s = side[active]
@@ -316,7 +312,7 @@ def evaluate(feed: Feed, p: dict) -> Performance:
     thermo_limit = np.zeros(n, dtype=bool)
     for ns in np.unique(stages):                 # a few groups by stage count, never a loop over cases
         idx = np.flatnonzero(stages == ns)
-        ci = {key: (v[idx] if isinstance(v, np.ndarray) and v.shape == (n,) else v) for key, v in c.items()}
+        ci = take(c, idx)
         shares = STAGE_SHARES[int(ns)]
         Pi, ok = solve_feed_pressure(ci, shares, n_seg)
         P[idx], reachable[idx] = Pi, ok
@@ -328,9 +324,7 @@ def evaluate(feed: Feed, p: dict) -> Performance:
         P_max = b(p["max_pressure"])[idx]
         over = np.flatnonzero(ok & (Pi > P_max))
         if over.size:
-            sub = {key: (v[over] if isinstance(v, np.ndarray) and v.shape == (idx.size,) else v)
-                   for key, v in ci.items()}
-            thermo_limit[idx[over]] = ~np.isfinite(_march(P_max[over], sub, shares, n_seg))
+            thermo_limit[idx[over]] = ~np.isfinite(_march(P_max[over], take(ci, over), shares, n_seg))
         thermo_limit[idx[~ok]] = True
     P_b = prof["P_b"]
     S_p = prof["perm_salt"] / r
@@ -339,8 +333,8 @@ def evaluate(feed: Feed, p: dict) -> Performance:
     S_b_out = (S_f - r * S_p) / (1 - r)
 
     # energy per kg of permeate [J/kg], from gauge pressures and specific volumes
-    eta = b(p["pump_efficiency"]) * b(p["motor_efficiency"])
     eta_p, eta_m = b(p["pump_efficiency"]), b(p["motor_efficiency"])
+    eta = eta_p * eta_m
     eta_e = b(p["energy_recovery_efficiency"])
     v_f = 1.0 / _brine.density(c["S_in"], T, feed.water)
     v_b = 1.0 / _brine.density(np.minimum(S_bm, S_CAP), T, feed.water)
@@ -371,12 +365,10 @@ def evaluate(feed: Feed, p: dict) -> Performance:
     elements = np.ceil(area / b(p["element_area"]) - 1e-9)
     vessels = np.ceil(elements / c["n_elem"] - 1e-9)
     v = feed.model.validity
-    P_max = b(p["max_pressure"])
-    restricted = thermo_limit
     infeasible = {
-        "feed pressure needed is above ro.max_pressure": reachable & (P > P_max) & ~restricted,
+        "feed pressure needed is above ro.max_pressure": reachable & (P > b(p["max_pressure"])) & ~thermo_limit,
         "net driving pressure falls to zero before the end of the vessel even at ro.max_pressure (the concentrate's "
-        "osmotic pressure; thermodynamic restriction)": restricted,
+        "osmotic pressure; thermodynamic restriction)": thermo_limit,
         "lead-element flux above ro.max_lead_flux": reachable & (prof["lead"] > b(p["max_lead_flux"])),
         f"RO brine outside the validated range of model {feed.model.name} ({v.describe()})":
             ~v.salinity_ok(np.where(np.isfinite(S_bm), S_bm, 1.0)) | ~v.temperature_ok(T),

@@ -134,12 +134,14 @@ def _reasons(perf, i=0):
 
 
 def test_limits_make_cases_infeasible():
-    # 70 % of 35 g/kg: the brine (117 g/kg) has an osmotic pressure near 110 bar, above the 82.7 bar element limit,
-    # so no allowed pressure reaches the recovery: the thermodynamic restriction, not just a pressure limit
+    # 70 % of 35 g/kg: the brine (117 g/kg) has an osmotic pressure above the 82.7 bar element limit (the premise,
+    # from TEOS-10 via gsw, library), so no allowed pressure reaches the recovery: the thermodynamic restriction
+    assert osmotic_pressure(SEAWATER.ln_aw(0.035 / 0.3, 298.15), 298.15) > 82.7e5
     perf = ro.evaluate(feed([0.035]), params(recovery=0.7))
     assert not perf.feasible[0]
     assert any("thermodynamic restriction" in t for t in _reasons(perf))
-    # 50 % recovery: the brine (about 72 bar) is below the limit, but a tight membrane at a high flux needs more
+    # 50 % recovery: the brine is below the limit (premise, TEOS-10), but a tight membrane at a high flux needs more
+    assert osmotic_pressure(SEAWATER.ln_aw(0.07, 298.15), 298.15) < 82.7e5
     hard = ro.evaluate(feed([0.035]), params(recovery=0.5, water_permeability="0.4 L/m^2/h/bar", flux="18 L/m^2/h"))
     assert _reasons(hard) == ["feed pressure needed is above ro.max_pressure"]
     low = ro.evaluate(feed([0.035]), params(recovery=0.45, max_lead_flux="15 L/m^2/h"))
