@@ -272,7 +272,9 @@ def evaluate(feed: Feed, p: dict) -> Performance:
         # (the case is infeasible and reported as NaN anyway)
         reg_feed = Feed(draw_model, "nacl", np.where(reached, S_dout, S_din * 0.5), T, b(feed.product_salinity),
                         b(feed.heat_temperature), b(feed.capacity))
-        reg_p = {**reg, "recovery": r_ro, "capital_cost": 0.0, "fixed_om": 0.0}
+        # the regenerator sees FO's flattened cases: varied keys (arrays of the case shape) are flattened alike
+        reg_p = {k: (b(v) if isinstance(v, np.ndarray) else v) for k, v in reg.items()}
+        reg_p.update(recovery=r_ro, capital_cost=0.0, fixed_om=0.0)
         perf = _ro.evaluate(reg_feed, reg_p)
         electricity = perf.electricity + b(p["circulation_electricity"]) + b(p["other_electricity"])
         heat = np.zeros(size)

@@ -193,3 +193,18 @@ def test_regenerator_subtable_in_scenario_files(tmp_path, capsys):
     assert main(["check", str(path), "--set", "fo.regenerator.max_pressure=85 m"]) == 2
     err = capsys.readouterr().err
     assert "--set fo.regenerator.max_pressure" in err and '"85 m"' in err
+
+
+def test_regenerator_keys_vary_with_monthly_temperatures():
+    # a varied [fo.regenerator] key reaches the RO regenerator in FO's flattened case shape (N cases x 12 months)
+    from compare.pipeline import evaluate
+    from compare.scenario import resolve
+    months = [f"{t} degC" for t in (14, 14, 15, 17, 19, 21, 23, 24, 23, 21, 18, 15)]
+    data = {"name": "Test Bay (fictional)", "site": {"capacity": "20000 m^3/day"},
+            "feed": {"salinity": "35 g/kg", "temperature": months}, "ro": {"enabled": False},
+            "med": {"enabled": False}}
+    res = evaluate(resolve(data, label="test"), varied={"fo.regenerator.flux": np.array([8.0, 12.0]) * LMH})
+    (t,) = res.technologies
+    assert t.feasible.all()
+    area = t.details["regenerator_membrane_area_m2"]
+    assert area[0] == pytest.approx(1.5 * area[1])          # area = capacity / flux
