@@ -157,10 +157,13 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
     # section declares such keys
     for sec, body in data.items():
         if isinstance(body, dict) and sec in specs:
-            for key in [k for k, v in body.items() if isinstance(v, dict)]:
-                if any(name.startswith(f"{key}.") for name in specs[sec]):
-                    for sub, v in body.pop(key).items():
-                        body[f"{key}.{sub}"] = v
+            for key in [k for k in body if any(name.startswith(f"{k}.") for name in specs[sec])]:
+                table = body.pop(key)
+                if not isinstance(table, dict):
+                    errors.append(f"{label}: {sec}.{key}: expected a table [{sec}.{key}] of its keys, got {table!r}")
+                    continue
+                for sub, v in table.items():
+                    body[f"{key}.{sub}"] = v
     sources: dict[str, str] = {}
     texts: dict[str, Any] = {}
 

@@ -180,8 +180,9 @@ def _march(M, st, N, tvc, k_suc, Ra, parallel):
                 salt=np.array(salt), F=np.array(F), Q_cond=duty, E=E)
 
 
-def _group(feed, p, idx, N, tvc, size):
-    """All cases of one effect count (indices idx among size cases), solved together."""
+def _group(feed, p, idx, N, k_suc, tvc, size):
+    """All cases of one effect count and suction effect (0-based ``k_suc``; indices idx among size cases), solved
+    together."""
     n = idx.size
     g = lambda x: np.broadcast_to(np.asarray(x, dtype=float), (size,))[idx]  # noqa: E731
     S_f, T_sw = g(feed.salinity), g(feed.temperature)
@@ -195,7 +196,6 @@ def _group(feed, p, idx, N, tvc, size):
     T = T1[None, :] - (T1 - T_N)[None, :] * frac                   # (N, n) brine temperatures
     rec = 1.0 - S_f / S_max                                         # distillate per kg of evaporator feed
     parallel = p["feed_arrangement"] != "forward"
-    k_suc = N - 1 if p["suction_effect"] is None else int(min(np.max(p["suction_effect"]), N)) - 1
     # salinity profile: start from the ideal split of the recovery, then iterate
     if parallel:
         S = np.broadcast_to(S_max, (N, n)).copy()
@@ -298,9 +298,12 @@ def evaluate(feed: Feed, p: dict) -> Performance:
             "step", "E", "Ra")
     res = {key: np.full(size, np.nan) for key in keys}
     bad, flags = {}, {}
-    for N in np.unique(N_all):              # one group per effect count (at most 15), never a loop over cases
-        idx = np.flatnonzero(N_all == N)
-        out = _group(fd, pp, idx, int(N), tvc, size)
+    # the ejector draws from suction_effect (default and at most: the last effect)
+    suc_all = N_all if p["suction_effect"] is None else np.minimum(full(p["suction_effect"]).astype(int), N_all)
+    # one group per (effect count, suction effect): at most a few dozen, never a loop over cases
+    for N, suc in np.unique(np.stack([N_all, suc_all if tvc else N_all], axis=1), axis=0):
+        idx = np.flatnonzero((N_all == N) & ((suc_all if tvc else N_all) == suc))
+        out = _group(fd, pp, idx, int(N), int(suc) - 1, tvc, size)
         for key in keys:
             res[key][idx] = out[key]
         for dest, src in ((bad, out["bad"]), (flags, out["flags"])):

@@ -190,6 +190,11 @@ def test_regenerator_subtable_in_scenario_files(tmp_path, capsys):
     assert main(["check", str(bad)]) == 2
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "fo.regenerator.stagez: unknown key" in err[0] and "stages" in err[0]
+    flat = tmp_path / "flat.toml"
+    flat.write_text(path.read_text().split("[fo.regenerator]")[0] + "[fo]\nregenerator = 5\n")
+    assert main(["check", str(flat)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "fo.regenerator: expected a table [fo.regenerator]" in err[0] and "5" in err[0]
     assert main(["check", str(path), "--set", "fo.regenerator.max_pressure=85 m"]) == 2
     err = capsys.readouterr().err
     assert "--set fo.regenerator.max_pressure" in err and '"85 m"' in err

@@ -110,6 +110,15 @@ def test_vapour_compression_raises_gor():
     assert tvc.heat_temperature[0] == pytest.approx(PropsSI("T", "P", 1e6, "Q", 1, "Water"), abs=0.05)
 
 
+def test_suction_effect_varies_per_case():
+    # each case draws from its own suction effect (grouped, as one-by-one): a later effect's vapour is colder and
+    # needs a higher compression ratio, so more motive steam per kg entrained (identity of the ejector correlation)
+    cases = med.evaluate(feed([0.035, 0.035]), params(vapor_compression=True, suction_effect=np.array([3.0, 8.0])))
+    single = [med.evaluate(feed([0.035]), params(vapor_compression=True, suction_effect=str(k))) for k in (3, 8)]
+    assert cases.heat == pytest.approx([p.heat[0] for p in single], rel=1e-9)
+    assert cases.details["entrainment_ratio"][0] < cases.details["entrainment_ratio"][1]
+
+
 def test_entrainment_ratio_behaves_as_an_ejector():
     # identity of the correlation (El-Dessouky & Ettouney 2002, from memory): more motive pressure entrains more per
     # kg (lower Ra); a higher compression ratio needs more motive steam (higher Ra)
