@@ -387,6 +387,91 @@ def _show_value(v):
     return str(v)
 
 
+# ------------------------------------------------------------------------------------------------ report, claims
+def cmd_claim(args) -> int:
+    """``desal claim``: a claimed energy figure judged against the floor and this tool's designs."""
+    from .claim import judge, parse_cli_claim
+    from .present import CAUTION
+    from .present.claims import claims_csv_rows, claims_markdown, print_claims
+    from .scenario import SITE_SECTIONS, sections
+
+    scenario = _load_all([args.scenario], args.set or [])[0]
+    if args.technology or args.electricity:
+        if not (args.technology and args.electricity):
+            raise InputError("claim: expected --technology and --electricity together, got "
+                             + ("--technology" if args.technology else "--electricity") + " alone")
+        claims = [parse_cli_claim(args, [t for t in sections() if t not in SITE_SECTIONS])]
+    elif scenario.claims:
+        claims = list(scenario.claims)
+    else:
+        raise InputError(f"claim: expected --technology and --electricity, or a [claim] section in {args.scenario}, "
+                         "got neither")
+    body = {"scenario": scenario.name, "claims": [judge(args.scenario, c, args.set or []) for c in claims],
+            "notice": CAUTION}
+    _emit(args.format, body, table=lambda: print_claims(_console(), body), markdown=lambda: claims_markdown(body),
+          csv_rows=lambda: claims_csv_rows(body))
+    return 0
+
+
+def cmd_report(args) -> int:
+    """``desal report``: one self-contained report.html (and with --pdf a PDF) in a new run folder."""
+    import json
+
+    from .claim import judge, load_claims
+    from .pipeline import evaluate
+    from .present.files import to_json
+    from .present.report import read_sweep, write_report
+    from .runrecord import run_record
+
+    scenario = _load_all([args.scenario], args.set or [])[0]
+    claims = list(scenario.claims) + (load_claims(args.claim_file) if args.claim_file else [])
+    sweep = read_sweep(args.sweep) if args.sweep else None
+    payload = json.loads(to_json(_payload(evaluate(scenario))))      # exactly what compare --format json prints
+    judgements = [judge(args.scenario, c, args.set or []) for c in claims]
+    run = json.loads(to_json(run_record([scenario], ["desal", "report", *args.argv])))
+    saved, notes = write_report(Path(args.out or "results"), scenario.name, payload, run, judgements, sweep,
+                                pdf=args.pdf)
+    for line in notes:
+        print(line, file=sys.stderr)
+    print(f"saved: {saved}", file=sys.stderr)
+    return 0
+
+
+def _report_parsers(sub) -> None:
+    r = sub.add_parser("report", help="one self-contained HTML report of a scenario (inputs, floor, technologies, "
+                                      "figures, flags, claims, cautions)",
+                       description="Evaluate a scenario and write one self-contained report.html (inline CSS and "
+                                   "SVG, no script, nothing fetched) into a new run folder, with a screenshot "
+                                   "(report.png) when headless Chromium is installed.")
+    r.add_argument("scenario", metavar="SCENARIO", help="scenario TOML file")
+    r.add_argument("--set", action="append", metavar="K=V",
+                   help="override a scenario key, e.g. --set ro.recovery=0.5 (repeatable)")
+    r.add_argument("--claim-file", metavar="F", help="a TOML file of [claim] or [[claim]] tables to judge as well")
+    r.add_argument("--sweep", metavar="DIR", help="a sweep run folder whose break-even or distributions to show")
+    r.add_argument("--out", metavar="DIR", help="folder under which the run folder is created (default results/)")
+    r.add_argument("--pdf", action="store_true", help="also print the page to report.pdf with headless Chromium "
+                                                      "(says so plainly when it is not installed)")
+    r.set_defaults(func=cmd_report)
+
+    c = sub.add_parser("claim", help="judge a claimed electricity (and heat) per m3 against the floor and this "
+                                     "tool's designs",
+                       description="Judge a claimed specific energy of a technology at a scenario's site: below the "
+                                   "least work of its streams (below_floor), below a best-practice design "
+                                   "(below_model), up to the scenario's design plus a margin (within_model), or "
+                                   "above (above_model). Without --technology, judges the scenario's [claim] "
+                                   "tables. Heat is valued by its exergy at its temperature.")
+    _scenario_arguments(c, many=False)
+    c.add_argument("--technology", metavar="T", help="the technology claimed (ro, med, fo)")
+    c.add_argument("--electricity", metavar="Q", help='electricity per m3 of product, e.g. "3.5 kWh/m^3"')
+    c.add_argument("--heat", metavar="Q", help='heat per m3 of product, e.g. "60 kWh/m^3" (needs --heat-temperature)')
+    c.add_argument("--heat-temperature", metavar="Q", help='temperature of that heat, e.g. "70 degC"')
+    c.add_argument("--recovery", metavar="R", help="mass recovery of the claim (default: the scenario design's)")
+    c.add_argument("--scope", default="plant", metavar="plant|process",
+                   help="plant: whole plant (intake, pre- and post-treatment included; default); process: the "
+                        "separation step alone")
+    c.set_defaults(func=cmd_claim)
+
+
 # ------------------------------------------------------------------------------------------------------ parser
 def _scenario_arguments(p: argparse.ArgumentParser, many: bool = True) -> None:
     """The arguments every command that reads scenario files takes."""
@@ -479,6 +564,7 @@ def build_parser() -> argparse.ArgumentParser:
                        description="List the property and technology models with their validity ranges and sources.")
     m.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
     m.set_defaults(func=cmd_models)
+    _report_parsers(sub)
     return p
 
 

@@ -97,6 +97,7 @@ class Scenario:
     texts: dict[str, Any]
     overrides: tuple[str, ...] = ()
     uncertainty: dict = field(default_factory=dict)
+    claims: tuple = ()      # the [claim] entries, each a dict from parse_claims
 
     @property
     def currency(self) -> str:
@@ -198,6 +199,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
         errors.append(f"{label}: name: expected a string, got {name!r}")
         name = None
     uncertainty_raw = data.pop("uncertainty", {})
+    claims_raw = data.pop("claim", None)
 
     for sec, body in data.items():
         if sec not in specs:
@@ -254,11 +256,13 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
 
     _cross_checks(values, label, errors)
     uncertainty = _uncertainty(uncertainty_raw, specs, label, errors, ctx)
+    claims = parse_claims(claims_raw, label, errors, technologies=[s for s in specs if s not in SITE_SECTIONS]) \
+        if claims_raw is not None else ()
     if errors:
         raise InputErrors(errors)
     if not name:
         name = Path(path).stem if path else "scenario"
-    return Scenario(name, path, sha256, values, sources, texts, tuple(overrides), uncertainty)
+    return Scenario(name, path, sha256, values, sources, texts, tuple(overrides), uncertainty, claims)
 
 
 def _cross_checks(values, label, errors):
@@ -374,3 +378,75 @@ def load(path: str | Path, overrides: list[str] | tuple[str, ...] = ()) -> Scena
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{label}: TOML syntax: {exc}") from None
     return resolve(data, label=label, path=str(path), sha256=hashlib.sha256(raw).hexdigest(), overrides=overrides)
+
+
+# ------------------------------------------------------------------------------------------------------ claims
+#: keys of a ``[claim]`` (or each ``[[claim]]``): a figure someone asserts for a technology at this site
+CLAIM_KEYS: dict[str, Spec] = {
+    "technology": Spec("choice", None, "required", expect="a registered technology such as \"ro\""),
+    "electricity": Spec("quantity", None, "required", "J/m^3", 'an electricity per m^3 of product such as '
+                        '"3.5 kWh/m^3"', lo=0.0),
+    "heat": Spec("quantity", "0 kWh/m^3", "no heat", "J/m^3", 'a heat per m^3 of product such as "60 kWh/m^3"',
+                 lo=0.0),
+    "heat_temperature": Spec("temperature", OPTIONAL, "needed when heat is above zero",
+                             expect='a temperature such as "70 degC"', lo=173.15, hi=1273.15),
+    "recovery": Spec("fraction", OPTIONAL, "the recovery of the scenario's design of that technology",
+                     expect='a mass recovery in (0, 1), e.g. 0.5 or "50 %"', lo=0.0, hi=1.0, lo_open=True,
+                     hi_open=True),
+    "scope": Spec("choice", "plant", "whole plant (intake, pre- and post-treatment included)",
+                  choices=("plant", "process")),
+    "source": Spec("text", "", "who claims it (free text)"),
+}
+
+
+def parse_claims(raw, label: str, errors: list, technologies) -> tuple:
+    """``[claim]`` (one table) or ``[[claim]]`` (several) as dicts of SI values, each with ``texts`` (as written).
+
+    Problems are appended to ``errors`` as one line each (``FILE: claim.KEY: expected ..., got ...``).
+    """
+    tables = [raw] if isinstance(raw, dict) else raw if isinstance(raw, list) else None
+    if tables is None or not all(isinstance(t, dict) for t in tables):
+        errors.append(f"{label}: claim: expected a table [claim] or tables [[claim]], got {raw!r}")
+        return ()
+    out = []
+    for n, table in enumerate(tables):
+        where = f"{label}: claim" if len(tables) == 1 else f"{label}: claim[{n + 1}]"
+        for key in table:
+            if key not in CLAIM_KEYS:
+                errors.append(f"{where}.{key}: unknown key{nearest(key, CLAIM_KEYS)}")
+        claim, texts, ok = {}, {}, True
+        for key, spec in CLAIM_KEYS.items():
+            if key not in table and spec.required:
+                errors.append(f"{where}.{key}: required, expected {spec.expect}")
+                ok = False
+                continue
+            raw_value = table.get(key, spec.default)
+            texts[key] = raw_value
+            try:
+                claim[key] = parse_claim_value(key, raw_value, f"{where}.{key}", technologies)
+            except InputError as exc:
+                errors.append(str(exc))
+                ok = False
+        if ok and claim["heat"] > 0 and claim["heat_temperature"] is None:
+            errors.append(f"{where}.heat_temperature: required when heat is above zero, expected "
+                          f"{CLAIM_KEYS['heat_temperature'].expect}")
+            ok = False
+        if ok:
+            out.append({**claim, "texts": texts})
+    return tuple(out)
+
+
+def parse_claim_value(key: str, raw, where: str, technologies):
+    """One claim value in SI (None for an unset optional key); ``technologies`` are the registered names."""
+    spec = CLAIM_KEYS[key]
+    if raw == OPTIONAL:
+        return None
+    if spec.kind == "text":
+        if not isinstance(raw, str):
+            raise InputError(f"{where}: expected free text in quotes, got {raw!r}")
+        return raw
+    if key == "technology":
+        if raw not in technologies:
+            raise InputError(f"{where}: expected one of {', '.join(map(repr, technologies))}, got {raw!r}")
+        return raw
+    return parse_value(spec, raw, where)

@@ -1,0 +1,393 @@
+"""Claims: a figure someone asserts (specific electricity, and heat at its temperature, per m^3 of product at a
+recovery, for a technology) judged at a scenario's site.
+
+A claim is compared with three figures, all on one footing, the work equivalent (electricity plus the exergy of
+heat, Q (1 - T0/T_heat), T0 the feed temperature: the same dead state as the least work):
+
+1. the least work of separation of the claimed streams (the feed at the claimed recovery, the product at the
+   scenario's product target), :func:`compare.thermo.floor.least_work` with the feed's activity model;
+2. this tool's design of that technology with best-practice parameters (:data:`ADAPTERS`: which keys are set, which
+   are searched, and why), at the claimed recovery;
+3. its design with the scenario's own parameters, at the claimed recovery.
+
+Verdicts: ``below_floor`` (impossible), ``below_model`` (below the best-practice design: extraordinary, needs
+evidence), ``within_model`` (from the best-practice design up to the scenario's design times :data:`MARGIN`) and
+``above_model`` (above that: wasteful, or a different scope). Designs run through the public pipeline
+(:func:`compare.scenario.load` or :func:`compare.scenario.resolve` with overrides, then
+:func:`compare.pipeline.evaluate`); nothing here copies model code.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from .errors import InputError
+from .scenario import FEED_TEMPERATURE, Scenario, load, resolve
+from .thermo.constants import J_PER_KWH
+
+#: the upper end of ``within_model``: the scenario's design times this margin
+MARGIN = 1.25
+MARGIN_SOURCE = ("practice: a plant runs some 10-25 % above its design figure (fouling, part load, ageing); "
+                 "no source")
+VERDICTS = ("below_floor", "below_model", "within_model", "above_model")
+SCOPES = {"plant": "whole plant: intake, pretreatment, the separation step and post-treatment",
+          "process": "the separation step alone (no intake, pretreatment or post-treatment)"}
+
+
+@dataclass(frozen=True)
+class Adapter:
+    """How a claim maps onto one technology's scenario keys.
+
+    ``recovery(r, scenario)`` gives the ``--set`` texts that make the design run at mass recovery ``r``;
+    ``best`` the best-practice keys (key -> (value text, why)); ``search`` keys tried over a list of values (every
+    combination, evaluated as one vectorised run) of which the feasible design with the least work equivalent is
+    kept; ``scope`` the keys each scope sets in the best-practice design, and ``scope_scenario`` those it sets in the
+    scenario's design (key -> (value text, why)): a whole-plant claim meets the scenario's own plant figures, a
+    process claim meets both designs without them.
+    """
+
+    recovery: object
+    best: dict
+    search: dict = field(default_factory=dict)
+    scope: dict = field(default_factory=dict)
+    scope_scenario: dict = field(default_factory=dict)
+
+
+def _ro_recovery(r, scenario):
+    return [f"ro.recovery={r!r}"]
+
+
+def _fo_recovery(r, scenario):
+    return [f"fo.recovery={r!r}"]
+
+
+def _med_recovery(r, scenario):
+    # MED's recovery is that of its evaporator feed, set by the brine salinity: r = 1 - S_f / S_b (pure distillate)
+    S_f = float(scenario.values["feed"]["salinity"])
+    return [f"med.brine_salinity={S_f / (1.0 - r) * 1e3!r} g/kg"]
+
+
+_RO_BEST = {
+    "pressure_drop_per_element": ("0 bar", "the lowest pressure drop the tool accepts"),
+    "pump_efficiency": ("0.88", "practice: top of the 80-88 % range of high-pressure pumps"),
+    "motor_efficiency": ("0.97", "practice: premium-efficiency large motor"),
+    "energy_recovery": ("isobaric", "practice: the most efficient energy recovery device in use"),
+    "energy_recovery_efficiency": ("0.98", "practice: top of the 94-98 % range of isobaric exchangers"),
+    "energy_recovery_mixing": ("0", "the lowest mixing the tool accepts"),
+    "mass_transfer_coefficient": ("4e-5 m/s", "memory: top of the 1-4e-5 m/s range of spiral-wound channels"),
+}
+_RO_SEARCH = {
+    "water_permeability": (["1 L/m^2/h/bar", "1.5 L/m^2/h/bar", "2 L/m^2/h/bar", "3 L/m^2/h/bar", "5 L/m^2/h/bar",
+                            "8 L/m^2/h/bar", "12 L/m^2/h/bar", "20 L/m^2/h/bar", "50 L/m^2/h/bar",
+                            "1000 L/m^2/h/bar"],
+                           "the most permeable membrane whose design stays within the tool's limits (the lead "
+                           "element's flux)"),
+    "flux": (["10 L/m^2/h", "12 L/m^2/h", "14 L/m^2/h"], "practice: seawater design flux 10-14 L/m2/h"),
+}
+_PLANT_OTHER = ("0.3 kWh/m^3", "practice: the lean end of intake, pretreatment and post-treatment electricity "
+                "(no source)")
+_PROCESS_OTHER = ("0 kWh/m^3", "the separation step alone")
+
+ADAPTERS: dict[str, Adapter] = {
+    "ro": Adapter(_ro_recovery, _RO_BEST, _RO_SEARCH,
+                  {"plant": {"other_electricity": _PLANT_OTHER}, "process": {"other_electricity": _PROCESS_OTHER}},
+                  {"process": {"other_electricity": _PROCESS_OTHER}}),
+    "med": Adapter(
+        _med_recovery,
+        {"top_brine_temperature": ("70 degC", "practice: the top of the 65-70 degC range that limits scaling"),
+         "vapor_compression": ("false", "plain MED: its heat at the lowest temperature has the least exergy"),
+         "electricity": ("1.5 kWh/m^3", "practice: the bottom of the 1.5-2.5 kWh/m3 range of MED pumping")},
+        {"effects": ([str(n) for n in range(2, 17)], "the most effects (2-16) that still leave each effect a "
+                                                     "temperature difference")},
+        # MED's electricity is a whole-plant figure in this tool: a process-scope claim is judged on it too
+        {"plant": {}, "process": {}}),
+    "fo": Adapter(
+        _fo_recovery,
+        {**{f"regenerator.{k}": v for k, v in _RO_BEST.items() if k != "energy_recovery"},
+         "regenerator.energy_recovery": _RO_BEST["energy_recovery"],
+         "circulation_electricity": ("0.1 kWh/m^3", "memory: the low end of low-pressure feed and draw loops")},
+        {"draw_concentration": (["1.2 mol/kg", "1.5 mol/kg", "2 mol/kg", "2.5 mol/kg", "3 mol/kg"],
+                                "a draw strong enough for the recovery, and no stronger than its regenerator "
+                                "needs")},
+        {"plant": {"other_electricity": _PLANT_OTHER}, "process": {"other_electricity": _PROCESS_OTHER}},
+        {"process": {"other_electricity": _PROCESS_OTHER}}),
+}
+
+
+def kwh(x) -> float | None:
+    """J/m^3 -> kWh/m^3 (None stays None)."""
+    return None if x is None else float(x) / J_PER_KWH
+
+
+def _num(v) -> float | None:
+    """A record figure as a float, or None where it is missing (null or NaN: an infeasible design)."""
+    if v is None:
+        return None
+    v = float(v)
+    return v if math.isfinite(v) else None
+
+
+# ---------------------------------------------------------------------------------------------------- scenarios
+class _Source:
+    """The scenario a claim is judged at: a file path or a parsed dict, re-resolved with extra overrides."""
+
+    def __init__(self, source, overrides=()):
+        self.source = source
+        self.overrides = list(overrides)
+
+    def resolve(self, extra=()) -> Scenario:
+        merged: dict[str, str] = {}
+        for text in [*self.overrides, *extra]:
+            merged[text.split("=", 1)[0].strip()] = text      # later texts win: best practice over the user's --set
+        over = list(merged.values())
+        if isinstance(self.source, (str, Path)):
+            return load(self.source, over)
+        return resolve(self.source, label="scenario", overrides=over)
+
+
+def _design_overrides(tech: str, scenario: Scenario) -> list[str]:
+    """Only ``tech`` enabled; heat valued by exergy against the feed temperature (the least work's dead state)."""
+    others = [f"{t}.enabled=false" for t in scenario.technologies if t != tech]
+    return [*others, f"{tech}.enabled=true", "energy.heat_to_work=exergy",
+            f"energy.dead_state_temperature={FEED_TEMPERATURE}"]
+
+
+def _design_figures(rec: dict) -> dict:
+    return {
+        "feasible": bool(rec["feasible"]),
+        "recovery": _num(rec.get("recovery")),
+        "electricity_kwh_per_m3": _num(rec.get("electricity_kwh_per_m3")),
+        "heat_kwh_per_m3": _num(rec.get("heat_kwh_per_m3")),
+        "heat_temperature_c": _num(rec.get("heat_temperature_c")),
+        "work_equivalent_kwh_per_m3": _num(rec.get("work_equivalent_kwh_per_m3")) if rec["feasible"] else None,
+        "warnings": list(rec.get("warnings", [])),
+        "flags": list(rec.get("flags", [])),
+    }
+
+
+def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
+    """The design of ``tech`` with ``extra`` overrides; with ``search``, every combination of the searched values in
+    one vectorised run, keeping the feasible case with the least work equivalent (else the first case)."""
+    from .pipeline import evaluate
+    from .schema import parse_value
+
+    scenario = source.resolve(extra)
+    if not search:
+        return _design_figures(scenario_record(scenario, tech)), {}
+    from .scenario import sections
+    specs = sections()[tech]
+    keys = list(search)
+    grids = [values for values, _ in search.values()]
+    combos = np.array(np.meshgrid(*[np.arange(len(g)) for g in grids], indexing="ij")).reshape(len(keys), -1)
+    ctx = {"currency": scenario.currency, "water": scenario.values["feed"]["water"],
+           "temperature": float(np.mean(scenario.values["feed"]["temperature"]))}
+    varied = {f"{tech}.{k}": np.array([float(parse_value(specs[k], grids[j][i], k, **ctx)) for i in combos[j]])
+              for j, k in enumerate(keys)}
+    result = evaluate(scenario, varied)
+    records = [next(r for r in result.records(i) if r["technology"] == tech) for i in range(result.n_cases)]
+    work = [(_num(r.get("work_equivalent_kwh_per_m3")) if r["feasible"] else None) for r in records]
+    feasible = [i for i, w in enumerate(work) if w is not None]
+    best = min(feasible, key=lambda i: work[i]) if feasible else 0
+    chosen = {k: grids[j][combos[j][best]] for j, k in enumerate(keys)}
+    return _design_figures(records[best]), chosen
+
+
+def scenario_record(scenario: Scenario, tech: str) -> dict:
+    """The contract record of ``tech`` for ``scenario`` (one case)."""
+    from .pipeline import evaluate
+    return next(r for r in evaluate(scenario).records() if r["technology"] == tech)
+
+
+# ---------------------------------------------------------------------------------------------------- judging
+def _least_work(scenario: Scenario, r: float) -> tuple[float, float]:
+    """Least work [kWh/m^3] of the claimed streams (feed at recovery ``r``, product at the scenario's target) and
+    the production-weighted dead state [K] (the feed temperature)."""
+    from .accounting import month_weights
+    from .thermo.activity import get_model
+    from .thermo.floor import least_work
+
+    feed = scenario.values["feed"]
+    extra = {"composition": feed["ions"]} if feed["water"] == "ions" else {}
+    model = get_model(feed["model"], feed["water"], **extra)
+    T = np.atleast_1d(np.asarray(feed["temperature"], dtype=float))
+    w = month_weights(T.size)
+    lw = least_work(model, feed["salinity"], T, r, scenario.values["product"]["salinity"], feed["water"])
+    return float(np.sum(w * lw)) / J_PER_KWH, float(np.sum(w * T))
+
+
+def claim_work_equivalent(electricity, heat, heat_temperature, T0) -> tuple[float, float]:
+    """Work equivalent [same unit as electricity] of a claim and the exergy factor of its heat [-].
+
+    Heat is valued by its exergy Q (1 - T0/T_heat) (Bejan 2016, Advanced Engineering Thermodynamics), zero at or
+    below the dead state; ``T0`` may be the twelve monthly feed temperatures (weighted by days).
+
+    Examples
+    --------
+    >>> we, phi = claim_work_equivalent(1.0, 10.0, 343.15, 298.15)   # 70 degC heat, 25 degC dead state
+    >>> round(phi, 4), round(we, 3)
+    (0.1311, 2.311)
+    """
+    from .accounting import exergy_factor, month_weights
+
+    if not heat:
+        return float(electricity), 0.0
+    T0 = np.atleast_1d(np.asarray(T0, dtype=float))
+    phi = float(np.sum(month_weights(T0.size) * exergy_factor(heat_temperature, T0)))
+    return float(electricity) + float(heat) * phi, phi
+
+
+def judge(source, claim: dict, overrides=()) -> dict:
+    """The verdict on ``claim`` at the site of ``source`` (a scenario path or a parsed scenario dict, with the
+    ``--set`` texts ``overrides``).
+
+    ``claim`` holds SI values as :func:`compare.scenario.parse_claims` gives them: ``technology``, ``electricity``
+    and ``heat`` [J/m^3], ``heat_temperature`` [K] or None, ``recovery`` or None (then the scenario design's),
+    ``scope`` (``plant`` or ``process``) and ``source`` (free text). Returns a plain dict (JSON-ready).
+    """
+    src = _Source(source, overrides)
+    tech = claim["technology"]
+    if tech not in ADAPTERS:
+        raise InputError(f"--technology: expected one of {', '.join(ADAPTERS)} (technologies with a best-practice "
+                         f"parameter set), got {tech!r}")
+    adapter = ADAPTERS[tech]
+    scope = claim.get("scope") or "plant"
+    base = src.resolve()
+    common = _design_overrides(tech, base)
+    scope_set = [f"{tech}.{k}={v}" for k, (v, _) in adapter.scope.get(scope, {}).items()]
+    scope_scen = [f"{tech}.{k}={v}" for k, (v, _) in adapter.scope_scenario.get(scope, {}).items()]
+    r = claim.get("recovery")
+    if r is None:
+        r = _num(scenario_record(src.resolve(common + scope_scen), tech)["recovery"])
+        if r is None:
+            raise InputError(f"--recovery: expected a recovery (the scenario's design of {tech} gives none), got none")
+    at_r = adapter.recovery(float(r), base)
+    lw, T0 = _least_work(base, float(r))
+    T_feed = np.atleast_1d(np.asarray(base.values["feed"]["temperature"], dtype=float))
+
+    e, q = kwh(claim["electricity"]), kwh(claim.get("heat") or 0.0)
+    Th = claim.get("heat_temperature")
+    w_claim, phi = claim_work_equivalent(e, q, Th if Th is not None else np.nan, T_feed)
+
+    scen, _ = _evaluate(src, tech, common + at_r + scope_scen, {})
+    best_set = [f"{tech}.{k}={v}" for k, (v, _) in adapter.best.items()]
+    best, chosen = _evaluate(src, tech, common + at_r + best_set + scope_set, adapter.search)
+
+    w_best, w_scen = best["work_equivalent_kwh_per_m3"], scen["work_equivalent_kwh_per_m3"]
+    known = [x for x in (w_best, w_scen) if x is not None]
+    lower = min(known) if known else None
+    upper_base = w_scen if w_scen is not None else w_best
+    upper = None if upper_base is None else MARGIN * upper_base
+    name = tech.upper()
+    fmt = lambda x: f"{x:.2f} kWh/m3"  # noqa: E731
+    if w_claim < lw:
+        verdict = "below_floor"
+        why = (f"the claim's work equivalent {fmt(w_claim)} is below the least work of its own streams, {fmt(lw)}: "
+               "no process can do that")
+    elif lower is None:
+        verdict = "below_model"
+        why = (f"the claim's work equivalent {fmt(w_claim)} is above the least work ({fmt(lw)}), but this tool finds "
+               f"no feasible {name} design at recovery {r:.3g} at this site, even with best-practice parameters: "
+               "the claim needs evidence")
+    elif w_claim < lower:
+        verdict = "below_model"
+        why = (f"the claim's work equivalent {fmt(w_claim)} is below this tool's best-practice {name} design, "
+               f"{fmt(lower)} (least work {fmt(lw)}): extraordinary, it needs evidence")
+    elif w_claim <= upper:
+        verdict = "within_model"
+        why = (f"the claim's work equivalent {fmt(w_claim)} lies between the best-practice design, {fmt(lower)}, "
+               f"and the scenario's design times {MARGIN:g}, {fmt(upper)}")
+    else:
+        verdict = "above_model"
+        why = (f"the claim's work equivalent {fmt(w_claim)} is above the scenario's design times {MARGIN:g}, "
+               f"{fmt(upper)}: more than this technology needs here (or a wider scope than stated)")
+    texts = claim.get("texts", {})
+    return {
+        "verdict": verdict,
+        "explanation": why,
+        "claim": {
+            "technology": tech, "scope": scope, "scope_means": SCOPES[scope], "source": claim.get("source", ""),
+            "recovery": float(r), "recovery_from": "claim" if claim.get("recovery") is not None else
+            f"the scenario's {name} design",
+            "electricity_kwh_per_m3": e, "heat_kwh_per_m3": q,
+            "heat_temperature_c": None if Th is None else float(Th) - 273.15,
+            "exergy_factor": phi, "work_equivalent_kwh_per_m3": w_claim,
+            "as_written": {k: v for k, v in texts.items() if v not in ("(none)", "")},
+        },
+        "site": {
+            "scenario": base.name, "feed_salinity_g_per_kg": float(base.values["feed"]["salinity"]) * 1e3,
+            "feed_temperature_c": float(np.mean(T_feed)) - 273.15,
+            "product_salinity_g_per_kg": float(base.values["product"]["salinity"]) * 1e3,
+            "dead_state_c": T0 - 273.15,
+            "dead_state": "the feed temperature (the least work's own), whatever the scenario's heat_to_work",
+        },
+        "least_work_kwh_per_m3": lw,
+        "best_practice": {**best, "parameters": {**{k: {"value": v, "why": why_} for k, (v, why_) in
+                                                    adapter.best.items()},
+                                                 **{k: {"value": chosen.get(k), "why": f"searched: {why_}"}
+                                                    for k, (_, why_) in adapter.search.items()},
+                                                 **{k: {"value": v, "why": f"scope: {why_}"} for k, (v, why_) in
+                                                    adapter.scope.get(scope, {}).items()}},
+                          "note": "the scenario's design of this technology with these keys changed"},
+        "scenario_design": {**scen, "parameters": {k: {"value": v, "why": f"scope: {why_}"} for k, (v, why_) in
+                                                   adapter.scope_scenario.get(scope, {}).items()},
+                            "note": "the scenario's own parameters at the claimed recovery"},
+        "margin": MARGIN, "margin_source": MARGIN_SOURCE,
+        "within_model_kwh_per_m3": [lower, upper],
+        "compared": [
+            {"figure": "claim, work equivalent", "kwh_per_m3": w_claim},
+            {"figure": "least work of the claimed streams", "kwh_per_m3": lw},
+            {"figure": f"best-practice {name} design", "kwh_per_m3": w_best},
+            {"figure": f"scenario's {name} design", "kwh_per_m3": w_scen},
+            {"figure": f"scenario's design x {MARGIN:g} (top of within_model)", "kwh_per_m3": upper},
+        ],
+    }
+
+
+def load_claims(path) -> list[dict]:
+    """The ``[claim]`` or ``[[claim]]`` tables of a TOML file (``--claim-file``), parsed as a scenario's are."""
+    import tomllib
+
+    from .errors import InputErrors
+    from .scenario import SITE_SECTIONS, parse_claims, sections
+
+    label = str(path)
+    try:
+        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
+    except OSError as exc:
+        raise InputError(f"{label}: cannot read the claim file: {exc.strerror}") from None
+    except (UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
+        raise InputError(f"{label}: expected a UTF-8 TOML file of [claim] tables, got: {exc}") from None
+    errors = [f"{label}: {k}: unknown key (a claim file holds [claim] or [[claim]] tables)" for k in data
+              if k != "claim"]
+    if "claim" not in data:
+        errors.append(f"{label}: claim: expected a table [claim] or tables [[claim]], got none")
+    claims = parse_claims(data.get("claim", []), label, errors, [t for t in sections() if t not in SITE_SECTIONS])
+    if errors:
+        raise InputErrors(errors)
+    return list(claims)
+
+
+def parse_cli_claim(args, technologies) -> dict:
+    """A claim from ``desal claim``'s options (one-line errors naming the option)."""
+    from .scenario import CLAIM_KEYS, parse_claim_value
+
+    raw = {"technology": args.technology, "electricity": args.electricity, "heat": args.heat or "0 kWh/m^3",
+           "heat_temperature": args.heat_temperature or "(none)", "recovery": args.recovery or "(none)",
+           "scope": args.scope, "source": "command line"}
+    out = {}
+    for key, text in raw.items():
+        opt = "--" + key.replace("_", "-")
+        if key == "scope" and text not in CLAIM_KEYS["scope"].choices:
+            raise InputError(f"--scope: expected one of plant, process, got {text!r}")
+        out[key] = parse_claim_value(key, text, opt, technologies)
+    if out["heat"] > 0 and out["heat_temperature"] is None:
+        raise InputError("--heat-temperature: required with --heat, expected a temperature such as \"70 degC\"")
+    out["texts"] = {k: v for k, v in raw.items() if k != "source"}
+    return out
+
+
+__all__ = ["judge", "claim_work_equivalent", "parse_cli_claim", "load_claims", "ADAPTERS", "MARGIN", "VERDICTS", "SCOPES"]

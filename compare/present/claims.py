@@ -1,0 +1,102 @@
+"""Claims as tables (rich, Markdown) and CSV rows. They only read the judgements of :func:`compare.claim.judge`."""
+
+from __future__ import annotations
+
+from . import CAUTION
+from .tables import fmt_number
+
+VERDICT_WORDS = {
+    "below_floor": "impossible: below the least work of its own streams",
+    "below_model": "below this tool's best-practice design: extraordinary, needs evidence",
+    "within_model": "within what this technology needs here",
+    "above_model": "above what this technology needs here",
+}
+
+
+def title(j: dict) -> str:
+    c = j["claim"]
+    heat = (f" + {fmt_number(c['heat_kwh_per_m3'], 3)} kWh_th/m3 at {fmt_number(c['heat_temperature_c'], 3)} degC"
+            if c["heat_kwh_per_m3"] else "")
+    src = f" ({c['source']})" if c.get("source") else ""
+    return (f"{c['technology'].upper()} claim{src}: {fmt_number(c['electricity_kwh_per_m3'], 3)} kWh/m3 electricity"
+            f"{heat} at recovery {fmt_number(c['recovery'], 3)}, {c['scope']} scope")
+
+
+def figure_rows(j: dict) -> list[list]:
+    """The figures a verdict compared, in kWh/m3 of work equivalent."""
+    return [[row["figure"], row["kwh_per_m3"]] for row in j["compared"]]
+
+
+def parameter_rows(j: dict) -> list[list]:
+    rows = []
+    for label, design in (("best practice", j["best_practice"]), ("scenario", j["scenario_design"])):
+        for k, v in design["parameters"].items():
+            rows.append([label, k, v["value"], v["why"]])
+    return rows
+
+
+def notes(j: dict) -> list[str]:
+    c, s = j["claim"], j["site"]
+    out = [f"Verdict: {j['verdict']} ({VERDICT_WORDS[j['verdict']]}). {j['explanation'][0].upper()}"
+           f"{j['explanation'][1:]}."]
+    if c["heat_kwh_per_m3"]:
+        out.append(f"Heat is valued by its exergy: {fmt_number(c['heat_kwh_per_m3'], 3)} kWh_th/m3 x (1 - T0/T_heat) "
+                   f"= x {c['exergy_factor']:.4f}, with T0 = {s['dead_state_c']:.1f} degC, {s['dead_state']}.")
+    out.append(f"Scope: {c['scope']} ({c['scope_means']}). Recovery {fmt_number(c['recovery'], 3)} from "
+               f"{c['recovery_from']}; product at the scenario's target, {fmt_number(s['product_salinity_g_per_kg'], 3)} "
+               "g/kg.")
+    lo, hi = j["within_model_kwh_per_m3"]
+    out.append(f"within_model spans {fmt_number(lo, 3)} to {fmt_number(hi, 3)} kWh/m3: from the lower of the "
+               f"best-practice and scenario designs to the scenario's design times {j['margin']:g} "
+               f"({j['margin_source']}).")
+    for label, design in (("best-practice design", j["best_practice"]), ("scenario's design", j["scenario_design"])):
+        if not design["feasible"]:
+            out.append(f"The {label} is infeasible at this recovery: "
+                       + "; ".join(design["warnings"] or ["no reason given"]) + ".")
+    return out
+
+
+def print_claims(console, body: dict) -> None:
+    from rich.markup import escape
+    from rich.text import Text
+
+    from .tables import rich_table
+    for j in body["claims"]:
+        console.print(rich_table(title(j), ["compared (work equivalent)", "kWh/m3"], figure_rows(j)))
+        console.print(rich_table("parameters of the designs", ["design", "key", "value", "why"], parameter_rows(j)))
+        style = {"below_floor": "bold red", "below_model": "bold yellow", "within_model": "bold green",
+                 "above_model": "bold magenta"}[j["verdict"]]
+        console.print(Text(j["verdict"], style=style))
+        for line in notes(j):
+            console.print(escape(line), highlight=False)
+        console.print()
+    console.print(Text(CAUTION, style="dim"))
+
+
+def claims_markdown(body: dict) -> str:
+    from .tables import markdown_table
+    parts = [f"# Claims at {body['scenario']}", ""]
+    for j in body["claims"]:
+        parts += [f"## {title(j)}", "", f"**{j['verdict']}**", "",
+                  markdown_table(["compared (work equivalent)", "kWh/m3"], figure_rows(j)), "",
+                  markdown_table(["design", "key", "value", "why"], parameter_rows(j)), ""]
+        parts += [f"- {line}" for line in notes(j)] + [""]
+    parts += [f"> {CAUTION}", ""]
+    return "\n".join(parts)
+
+
+def claims_csv_rows(body: dict) -> list[dict]:
+    rows = []
+    for j in body["claims"]:
+        c = j["claim"]
+        rows.append({"scenario": body["scenario"], "technology": c["technology"], "scope": c["scope"],
+                     "source": c["source"], "recovery": c["recovery"],
+                     "electricity_kwh_per_m3": c["electricity_kwh_per_m3"], "heat_kwh_per_m3": c["heat_kwh_per_m3"],
+                     "heat_temperature_c": c["heat_temperature_c"], "exergy_factor": c["exergy_factor"],
+                     "work_equivalent_kwh_per_m3": c["work_equivalent_kwh_per_m3"],
+                     "least_work_kwh_per_m3": j["least_work_kwh_per_m3"],
+                     "best_practice_kwh_per_m3": j["best_practice"]["work_equivalent_kwh_per_m3"],
+                     "scenario_design_kwh_per_m3": j["scenario_design"]["work_equivalent_kwh_per_m3"],
+                     "within_model_top_kwh_per_m3": j["within_model_kwh_per_m3"][1], "margin": j["margin"],
+                     "verdict": j["verdict"], "explanation": j["explanation"]})
+    return rows

@@ -1,0 +1,462 @@
+"""The report: one self-contained ``report.html`` per run (inline CSS and SVG, no script, nothing fetched), built
+from the output contract only: the payload ``desal compare --format json`` prints, the run record (``run.json``:
+versions, scenario hash, every resolved input with its source), the judgements of any claims
+(:func:`compare.claim.judge`) and, optionally, a sweep's run folder (``summary.json`` and ``cases.csv``).
+
+The page is rendered by a Jinja2 template (``templates/report.html.j2``); the figures are drawn by
+:mod:`compare.present.svg`. With headless Chromium installed, a screenshot of the first screen (``report.png``) and,
+when asked, a PDF of the page are written beside it.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import subprocess
+from pathlib import Path
+
+from . import CAUTION
+from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
+from .tables import fmt_number
+
+TEMPLATES = Path(__file__).parent / "templates"
+
+#: the longer caution of a report: what the one-line CAUTION stands for
+CAUTIONS = (
+    "Screening estimates for comparing options, not designs: the figures come from simplified models with the "
+    "parameters shown above; a real plant's figures depend on its equipment, its water and how it is run.",
+    "Reverse osmosis runs at high pressure (up to about 80 bar for seawater): pumps, pipes and vessels store energy "
+    "and can fail violently.",
+    "Distillation handles steam and hot brine: scalding and pressure hazards.",
+    "Forward-osmosis draw solutions are chemicals to be handled safely and kept out of the product.",
+    "Drinking water must meet the quality rules where it is supplied (boron, disinfection by-products, "
+    "remineralisation, microbial safety); the product salinity here is not a water-quality assessment.",
+    "Brine discharge is regulated by permit (salinity, temperature, chemicals, where and how it is released).",
+    "Local codes, regulators and licensed engineers decide any real design; nothing in this report replaces them.",
+)
+
+KIND_WORDS = {
+    "infeasible": "cannot work",
+    "out_of_range": "model outside its validated range (computed by extrapolation)",
+    "off_target": "misses its target",
+    "simplification": "simplified model, for comparison only",
+    "clipped": "sampled value held to a bound",
+    "note": "note",
+    "warning": "warning",
+}
+VERDICT_WORDS = {
+    "below_floor": "impossible",
+    "below_model": "extraordinary: needs evidence",
+    "within_model": "ordinary",
+    "above_model": "more than needed",
+}
+
+#: the side-by-side table: (group, label, unit, record field or function of the record, digits)
+FIELDS = (
+    ("Energy", "recovery (by mass)", "-", "recovery", 3),
+    ("Energy", "product salinity", "g/kg", "product_salinity_g_per_kg", 3),
+    ("Energy", "brine salinity", "g/kg", "brine_salinity_g_per_kg", 3),
+    ("Energy", "electricity", "kWh/m3", "electricity_kwh_per_m3", 3),
+    ("Energy", "heat", "kWh_th/m3", "heat_kwh_per_m3", 3),
+    ("Energy", "heat taken at", "degC", "heat_temperature_c", 3),
+    ("Energy", "work equivalent of heat", "kWh/m3",
+     lambda r: (r.get("details") or {}).get("work_equivalent_of_heat_kwh_per_m3") if r["feasible"] else None, 3),
+    ("Energy", "work equivalent (electricity + heat's)", "kWh/m3", "work_equivalent_kwh_per_m3", 3),
+    ("Distance from the floor", "least work of its own streams", "kWh/m3", "least_work_kwh_per_m3", 3),
+    ("Distance from the floor", "work equivalent / least work", "x", lambda r: _ratio(r), 3),
+    ("Distance from the floor", "second-law efficiency", "%",
+     lambda r: None if r.get("second_law_efficiency") is None else 100 * r["second_law_efficiency"], 3),
+    ("Site totals", "electric power", "MW", "power_mw", 3),
+    ("Site totals", "heat power", "MW_th", "heat_mw", 3),
+    ("Site totals", "annual electricity", "GWh/yr", "annual_electricity_gwh", 3),
+    ("Site totals", "annual heat", "GWh_th/yr", "annual_heat_gwh", 3),
+    ("Emissions", "CO2 per m3", "kg/m3", "emissions_kg_per_m3", 3),
+    ("Emissions", "CO2 per year", "t/yr", "annual_emissions_t", 3),
+    ("Cost", "levelised cost of water", "{currency}/m3", "levelized_cost_per_m3", 3),
+    ("Cost", "of which capital", "{currency}/m3", lambda r: _cost(r, "capital"), 3),
+    ("Cost", "of which fixed O&M", "{currency}/m3", lambda r: _cost(r, "fixed_om"), 3),
+    ("Cost", "of which electricity", "{currency}/m3", lambda r: _cost(r, "electricity"), 3),
+    ("Cost", "of which heat", "{currency}/m3", lambda r: _cost(r, "heat"), 3),
+)
+COST_PARTS = (("capital", "capital", PALETTE[0]), ("fixed_om", "fixed O&M", PALETTE[4]),
+              ("electricity", "electricity", PALETTE[1]), ("heat", "heat", PALETTE[3]))
+SITE_KEYS = ("site.capacity", "site.availability", "feed.water", "feed.salinity", "feed.temperature", "feed.model",
+             "product.salinity", "energy.electricity_price", "energy.electricity_emissions", "energy.heat_price",
+             "energy.heat_emissions", "energy.heat_temperature", "energy.heat_to_work", "finance.currency",
+             "finance.discount_rate", "finance.lifetime")
+
+
+def _num(v):
+    if v is None or isinstance(v, bool):
+        return None
+    try:
+        v = float(v)
+    except (TypeError, ValueError):
+        return None
+    return v if math.isfinite(v) else None
+
+
+def _ratio(r):
+    we, lw = _num(r.get("work_equivalent_kwh_per_m3")), _num(r.get("least_work_kwh_per_m3"))
+    return we / lw if we is not None and lw else None
+
+
+def _cost(r, part):
+    if not r["feasible"]:
+        return None
+    return _num(((r.get("details") or {}).get("cost_breakdown_per_m3") or {}).get(part))
+
+
+def _get(r, field):
+    v = field(r) if callable(field) else r.get(field)
+    if not r["feasible"] and not callable(field) and field not in ("recovery", "least_work_kwh_per_m3"):
+        return None          # an infeasible record has no design figures (null in the contract)
+    return _num(v)
+
+
+def _show(v) -> str:
+    if isinstance(v, list):
+        return ", ".join(map(str, v))
+    if isinstance(v, dict):
+        return ", ".join(f"{k} = {x}" for k, x in v.items())
+    return "" if v is None else str(v)
+
+
+# ------------------------------------------------------------------------------------------------------ flags
+def record_flags(rec: dict) -> list[dict]:
+    """A record's flags: its ``flags`` objects, or (an older payload) its warnings read as flags."""
+    if rec.get("flags") is not None:
+        return list(rec["flags"])
+    out = []
+    for w in rec.get("warnings", []):
+        if w.startswith("infeasible: "):
+            out.append({"kind": "infeasible", "code": "", "quantity": "", "model": rec["technology"],
+                        "message": w[len("infeasible: "):]})
+        else:
+            out.append({"kind": "warning", "code": "", "quantity": "", "model": rec["technology"], "message": w})
+    return out
+
+
+def floor_flags(payload: dict) -> list[dict]:
+    """The floor's flags: ``floor.flags``, or the payload's warnings that no technology raised."""
+    fl = payload["floor"]
+    if fl.get("flags") is not None:
+        return list(fl["flags"])
+    techs = [r["technology"] for r in payload["results"]]
+    own = [w for w in payload.get("warnings", []) if not any(w.startswith(f"{t}: ") for t in techs)]
+    return [{"kind": "warning", "code": "", "quantity": "", "model": fl.get("model", ""), "message": w} for w in own]
+
+
+def _sentence(text: str) -> str:
+    text = text.strip()
+    return (text[0].upper() + text[1:] + ("" if text.endswith(".") else ".")) if text else text
+
+
+# ------------------------------------------------------------------------------------------------------ sweeps
+def read_sweep(folder) -> dict:
+    """A sweep run folder (``summary.json``, ``cases.csv``, ``run.json``) as plain data for the report."""
+    from ..errors import InputError
+
+    folder = Path(folder)
+    summary_path = folder / "summary.json"
+    if not summary_path.is_file() or not (folder / "cases.csv").is_file():
+        raise InputError(f'--sweep: expected a sweep run folder holding summary.json and cases.csv, got "{folder}"')
+    try:
+        summary = json.loads(summary_path.read_text(encoding="utf-8"))
+        run = json.loads((folder / "run.json").read_text(encoding="utf-8")) if (folder / "run.json").is_file() \
+            else {}
+    except (OSError, ValueError) as exc:
+        raise InputError(f'--sweep: expected readable JSON in "{folder}", got {exc}') from None
+    import pandas as pd
+    wanted = ["case", "technology", "feasible", "levelized_cost_per_m3", "work_equivalent_kwh_per_m3",
+              "emissions_kg_per_m3", "floor_least_work_kwh_per_m3"]
+    axes = summary.get("grid") or []
+    columns = [f"{a['key']} [{a['unit']}]" for a in axes]
+    try:
+        cases = pd.read_csv(folder / "cases.csv", usecols=lambda c: c in wanted or c in columns)
+    except (OSError, ValueError) as exc:
+        raise InputError(f'--sweep: expected a readable cases.csv in "{folder}", got {exc}') from None
+    return {"folder": str(folder), "summary": summary, "run": run, "cases": cases, "columns": columns}
+
+
+def sweep_figures(sweep: dict) -> list[dict]:
+    """A grid sweep: cost and energy along the first varied key with the break-even points; samples: distributions
+    of cost and energy per technology."""
+    import numpy as np
+
+    s, cases = sweep["summary"], sweep["cases"]
+    currency = next((r.get("unit", "").split("/")[0] for r in s.get("summary", [])
+                     if r.get("metric") == "levelized_cost_per_m3"), "")
+    techs = list(dict.fromkeys(cases["technology"]))
+    colour = {t: PALETTE[i % len(PALETTE)] for i, t in enumerate(techs)}
+    figures = []
+    metrics = (("levelized_cost_per_m3", f"levelised cost [{currency}/m3]", "cost"),
+               ("work_equivalent_kwh_per_m3", "work equivalent [kWh/m3]", "energy"))
+    if s.get("mode") == "grid" and sweep["columns"]:
+        axis = s["grid"][0]
+        col = sweep["columns"][0]
+        sub = cases
+        held = []
+        for a, c in zip(s["grid"][1:], sweep["columns"][1:]):       # other keys held at their first value
+            sub = sub[np.isclose(sub[c], a["values"][0])]
+            held.append(f"{a['key']} = {fmt_number(a['values'][0])} {a['unit']}")
+        for metric, ylabel, criterion in metrics:
+            series = []
+            x = None
+            for t in techs:
+                rows = sub[sub["technology"] == t].sort_values(col)
+                x = rows[col].to_numpy(dtype=float)
+                y = np.where(rows["feasible"].astype(bool), rows[metric].to_numpy(dtype=float), np.nan)
+                series.append((t.upper(), colour[t], y))
+            changes = next((r.get("changes", []) for r in s.get("ranking", []) if r.get("criterion") == criterion),
+                           [])
+            vlines = [(c["value"], f"{c['from'].upper()} to {c['to'].upper()} at {fmt_number(c['value'])}")
+                      for c in changes if c.get("kind") == "crossing" and not c.get("at")
+                      and c.get("value") is not None]
+            hline = None
+            if metric == "work_equivalent_kwh_per_m3" and "floor_least_work_kwh_per_m3" in sub:
+                hline = (float(sub["floor_least_work_kwh_per_m3"].iloc[0]), "floor, zero recovery")
+            title = f"{ylabel.split(' [')[0].capitalize()} along {axis['key']}"
+            svg = line_chart(x, series, xlabel=f"{axis['key']} [{axis['unit']}]", ylabel=ylabel,
+                             label=title, vlines=vlines, hline=hline, cls=f"sweep-{criterion}")
+            note = ("First place changes where the dotted lines are (break-even). " if vlines else
+                    "First place does not change along this grid. ")
+            if held:
+                note += "Other varied keys held at: " + "; ".join(held) + "."
+            figures.append({"title": title, "svg": svg, "note": note})
+    else:
+        for metric, xlabel, criterion in metrics:
+            groups = []
+            for t in techs:
+                rows = cases[(cases["technology"] == t) & cases["feasible"].astype(bool)]
+                groups.append((t.upper(), colour[t], rows[metric].to_numpy(dtype=float)))
+            title = f"Distribution of {xlabel.split(' [')[0]} over {s.get('cases')} samples"
+            figures.append({"title": title, "svg": histogram_strips(groups, xlabel=xlabel, label=title,
+                                                                    cls=f"sweep-{criterion}"),
+                            "note": "Feasible samples only; the share of samples each technology ranks first is "
+                                    "in the table below."})
+    return figures
+
+
+def sweep_context(sweep: dict) -> dict:
+    s = sweep["summary"]
+    shares = []
+    for r in s.get("ranking", []):
+        shares.append({"criterion": r["criterion"],
+                       "shares": ", ".join(f"{k.upper() if k != 'none feasible' else k} {100 * v:.0f} %"
+                                           for k, v in r.get("first_share", {}).items() if v)})
+    changes = [c for r in s.get("ranking", []) for c in r.get("changes", [])]
+    flags = list(s.get("flags") or [])
+    if not flags:
+        flags = [{"kind": "warning", "message": w if isinstance(w, str) else w.get("message", str(w))}
+                 for w in s.get("warnings", [])]
+    sc = (sweep["run"].get("scenarios") or [{}])[0]
+    return {"folder": sweep["folder"], "mode": s.get("mode"), "cases": s.get("cases"), "varied": s.get("varied", []),
+            "grid": s.get("grid"), "sampling": s.get("sampling"), "shares": shares, "changes": changes,
+            "flags": flags, "figures": sweep_figures(sweep), "scenario": s.get("scenario"),
+            "overrides": sc.get("overrides", []), "sha256": sc.get("sha256")}
+
+
+# ------------------------------------------------------------------------------------------------------ render
+def energy_figure(payload: dict) -> str:
+    recs = payload["results"]
+    rows = []
+    for r in recs:
+        e = _get(r, "electricity_kwh_per_m3")
+        q = _get(r, "work_equivalent_kwh_per_m3")
+        rows.append((r["technology"].upper(), None if e is None else [e, (q or e) - e], "infeasible here"))
+    marks = ("least work of its own streams", [_num(r.get("least_work_kwh_per_m3")) for r in recs])
+    line = ("floor at zero recovery", _num(payload["floor"].get("least_work_kwh_per_m3_zero_recovery")))
+    return stacked_bars(rows, [("electricity", PALETTE[0]), ("work equivalent of heat", PALETTE[1])],
+                        unit="kWh/m3 of product (work equivalent)", marks=marks,
+                        line=line if line[1] is not None else None,
+                        label="Energy of each technology against the thermodynamic floor", cls="energy")
+
+
+def cost_figure(payload: dict) -> str:
+    recs = payload["results"]
+    currency = recs[0]["currency"] if recs else ""
+    rows = []
+    for r in recs:
+        parts = [_cost(r, k) for k, _, _ in COST_PARTS]
+        rows.append((r["technology"].upper(), None if all(p is None for p in parts) else parts, "infeasible here"))
+    return stacked_bars(rows, [(label, colour) for _, label, colour in COST_PARTS], unit=f"{currency}/m3 of product",
+                        label="Levelised cost of water and its parts", cls="cost")
+
+
+def _glance(payload: dict) -> list[str]:
+    recs = [r for r in payload["results"] if r["feasible"]]
+    out = []
+    fl = payload["floor"]
+    lw0 = _num(fl.get("least_work_kwh_per_m3_zero_recovery"))
+    if lw0 is not None:
+        out.append(f"The thermodynamic floor of this feed is {fmt_number(lw0, 3)} kWh/m3 (least work at zero "
+                   "recovery); each technology's own floor, at its recovery, is a little higher.")
+    for label, field, unit in (("energy (work equivalent)", "work_equivalent_kwh_per_m3", "kWh/m3"),
+                               ("levelised cost", "levelized_cost_per_m3", "{currency}/m3"),
+                               ("CO2", "emissions_kg_per_m3", "kg/m3")):
+        ranked = sorted((r for r in recs if _num(r.get(field)) is not None), key=lambda r: r[field])
+        if ranked:
+            unit_ = unit.format(currency=ranked[0]["currency"])
+            rest = "; ".join(f"{r['technology'].upper()} {fmt_number(r[field], 3)}" for r in ranked[1:])
+            out.append(f"Lowest {label}: {ranked[0]['technology'].upper()}, {fmt_number(ranked[0][field], 3)} "
+                       f"{unit_}" + (f" (then {rest})." if rest else "."))
+    bad = [r["technology"].upper() for r in payload["results"] if not r["feasible"]]
+    if bad:
+        out.append(f"Cannot work here as specified: {', '.join(bad)} (reasons under Flags).")
+    return out
+
+
+def _question(payload: dict, inputs: dict, techs: list[str]) -> str:
+    v = lambda k: _show(inputs.get(k, {}).get("value"))  # noqa: E731
+    temps = inputs.get("feed.temperature", {}).get("value")
+    if isinstance(temps, list) and len(temps) > 1:
+        mean = _num(payload["floor"].get("feed_temperature_c"))
+        t = "twelve monthly temperatures" + (f" (production-weighted mean {mean:.1f} degC)" if mean is not None
+                                              else "")
+    else:
+        t = _show(temps)
+    names = ", ".join(x.upper() for x in techs) or "no technology"
+    return (f"{payload['scenario']} needs {v('site.capacity')} of fresh water (product at most "
+            f"{v('product.salinity')}) from {v('feed.water')} of {v('feed.salinity')} at {t}. How much electricity "
+            f"and heat would {names} use here, how far is each from the thermodynamic floor (the least work of "
+            "separation of this feed), and what does that mean in power demand, annual energy, emissions and the "
+            f"cost of water, at electricity for {v('energy.electricity_price')} and heat for "
+            f"{v('energy.heat_price')}?")
+
+
+def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) -> dict:
+    """Everything the template shows, as plain data."""
+    sc = (run.get("scenarios") or [{}])[0]
+    inputs = sc.get("inputs", {})
+    recs = payload["results"]
+    currency = recs[0]["currency"] if recs else inputs.get("finance.currency", {}).get("value", "")
+    columns = [r["technology"].upper() for r in recs]
+    table, group = [], None
+    for grp, label, unit, field, digits in FIELDS:
+        values = [_get(r, field) for r in recs]
+        if all(v is None or v == 0 for v in values) and unit in ("kWh_th/m3", "degC", "MW_th", "GWh_th/yr"):
+            continue     # no technology uses heat: leave its rows out
+        table.append({"group": grp if grp != group else "", "label": label,
+                      "unit": unit.format(currency=currency),
+                      "values": [fmt_number(v, digits + 1) if v is not None else "—" for v in values]})
+        group = grp
+    table.insert(0, {"group": "", "label": "feasible", "unit": "",
+                     "values": ["yes" if r["feasible"] else "NO" for r in recs]})
+    designs = []
+    for r in recs:
+        det = {k: v for k, v in (r.get("details") or {}).items()
+               if k not in ("cost_breakdown_per_m3", "work_equivalent_of_heat_kwh_per_m3") and not isinstance(v, dict)}
+        designs.append({"name": r["technology"].upper(),
+                        "items": [(k, fmt_number(_num(v), 4) if _num(v) is not None else _show(v))
+                                  for k, v in det.items()]})
+    flag_groups = []
+    ff = floor_flags(payload)
+    if ff:
+        flag_groups.append({"name": "Floor and feed", "flags": ff})
+    for r in recs:
+        fl = record_flags(r)
+        if fl:
+            flag_groups.append({"name": r["technology"].upper(), "flags": fl})
+    for g in flag_groups:
+        for f in g["flags"]:
+            f["words"] = KIND_WORDS.get(f.get("kind"), f.get("kind", ""))
+            f["sentence"] = _sentence(f.get("message", ""))
+    sections: dict[str, list] = {}
+    for key in sorted(inputs):
+        sec = key.split(".", 1)[0]
+        item = inputs[key]
+        sections.setdefault(sec, []).append({"key": key, "value": _show(item.get("value")),
+                                             "source": item.get("source", "")})
+    site = [{"key": k, "value": _show(inputs[k]["value"]), "source": inputs[k]["source"]}
+            for k in SITE_KEYS if k in inputs]
+    floor = payload["floor"]
+    floor_rows = [
+        ("activity model", floor.get("model"), ""),
+        ("feed salinity", fmt_number(_num(floor.get("feed_salinity_g_per_kg")), 4), "g/kg"),
+        ("feed temperature (production-weighted)", fmt_number(_num(floor.get("feed_temperature_c")), 4), "degC"),
+        ("water activity", f"{floor['water_activity']:.5f}" if _num(floor.get("water_activity")) else "—", "-"),
+        ("osmotic pressure", fmt_number(_num(floor.get("osmotic_pressure_bar")), 4), "bar"),
+        ("least work at zero recovery (the floor)",
+         fmt_number(_num(floor.get("least_work_kwh_per_m3_zero_recovery")), 4), "kWh/m3"),
+    ]
+    floor_rows = [row for row in floor_rows if row[1] not in (None, "—")]
+    own = [{"name": r["technology"].upper(), "recovery": fmt_number(_num(r.get("recovery")), 3),
+            "least_work": fmt_number(_num(r.get("least_work_kwh_per_m3")), 4)} for r in recs]
+    claims = []
+    for j in judgements:
+        from .claims import figure_rows, notes, title
+        claims.append({"title": title(j), "verdict": j["verdict"], "words": VERDICT_WORDS[j["verdict"]],
+                       "figures": [(f, fmt_number(_num(v), 4) if _num(v) is not None else "— (no feasible design)")
+                                   for f, v in figure_rows(j)],
+                       "notes": notes(j)[1:], "explanation": _sentence(j["explanation"]),
+                       "parameters": [(k, v["value"], v["why"]) for k, v in j["best_practice"]["parameters"].items()],
+                       "source": j["claim"].get("source", "")})
+    return {
+        "title": f"{payload['scenario']}: desalination energy screening",
+        "scenario": payload["scenario"],
+        "question": _question(payload, inputs, [r["technology"] for r in recs]),
+        "glance": _glance(payload),
+        "site": site,
+        "overrides": sc.get("overrides", []),
+        "sections": sections,
+        "floor_rows": floor_rows,
+        "own_floor": own,
+        "columns": columns,
+        "table": table,
+        "designs": designs,
+        "energy_svg": energy_figure(payload) if recs else "",
+        "cost_svg": cost_figure(payload) if recs else "",
+        "flag_groups": flag_groups,
+        "claims": claims,
+        "caution": CAUTION,
+        "cautions": CAUTIONS,
+        "sweep": sweep_context(sweep) if sweep else None,
+        "run": {"version": run.get("version"), "created": run.get("created"), "command": " ".join(run.get("command",
+                                                                                                          [])),
+                "python": run.get("python"), "libraries": run.get("libraries", {}), "path": sc.get("path"),
+                "sha256": sc.get("sha256")},
+    }
+
+
+def render(payload: dict, run: dict, judgements=(), sweep: dict | None = None) -> str:
+    """The HTML text of the report."""
+    import jinja2
+
+    env = jinja2.Environment(loader=jinja2.FileSystemLoader(str(TEMPLATES)), autoescape=True,
+                             undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True)
+    env.filters["svg"] = lambda s: jinja2.utils.markupsafe.Markup(s)
+    return env.get_template("report.html.j2").render(**context(payload, run, judgements, sweep))
+
+
+def write_report(parent: Path, label: str, payload: dict, run: dict, judgements=(), sweep: dict | None = None,
+                 pdf: bool = False) -> tuple[Path, list[str]]:
+    """Write ``report.html`` (with ``results.json``, ``run.json``, ``claims.json`` when there are claims, and with
+    Chromium ``report.png`` and, when asked, ``report.pdf``) into a new run folder; returns it and notes to print."""
+    from . import browser
+    from .files import RunFolder, to_json
+
+    notes = []
+    html = render(payload, run, judgements, sweep)
+    with RunFolder(Path(parent), f"{label}-report") as folder:
+        folder.write("report.html", html)
+        folder.write("results.json", to_json(payload))
+        folder.write("run.json", to_json(run))
+        if judgements:
+            folder.write("claims.json", to_json({"scenario": payload["scenario"], "claims": list(judgements),
+                                                 "notice": CAUTION}))
+        page = folder.file("report.html")
+        if browser.find() is None:
+            notes.append(f"headless Chromium is not installed ({browser.INSTALL_HINT}): no report.png"
+                         + (" and no report.pdf (--pdf); report.html is written" if pdf else ""))
+        else:
+            try:
+                browser.screenshot(page, folder.file("report.png"))
+            except (OSError, RuntimeError, subprocess.SubprocessError) as exc:
+                notes.append(f"the screenshot failed, report.html is written: {exc}")
+            if pdf:
+                try:
+                    browser.print_pdf(page, folder.file("report.pdf"))
+                except (OSError, RuntimeError, subprocess.SubprocessError) as exc:
+                    notes.append(f"--pdf: printing failed, report.html is written: {exc}")
+        return folder.commit(), notes
