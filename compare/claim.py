@@ -19,6 +19,7 @@ evidence), ``within_model`` (from the best-practice design up to the scenario's 
 
 from __future__ import annotations
 
+import json
 import math
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -203,6 +204,10 @@ def scenario_record(scenario: Scenario, tech: str) -> dict:
 
 
 # ---------------------------------------------------------------------------------------------------- judging
+#: the two designs of a site, technology, recovery and scope, computed once per process: claims at the same site
+#: (a report's, a test's) share them; keyed by the scenario file's hash, so an edited file is evaluated again
+_DESIGNS: dict = {}
+
 def _least_work(scenario: Scenario, r: float) -> tuple[float, float]:
     """Least work [kWh/m^3] of the claimed streams (feed at recovery ``r``, product at the scenario's target) and
     the production-weighted dead state [K] (the feed temperature)."""
@@ -272,9 +277,15 @@ def judge(source, claim: dict, overrides=()) -> dict:
     Th = claim.get("heat_temperature")
     w_claim, phi = claim_work_equivalent(e, q, Th if Th is not None else np.nan, T_feed)
 
-    scen, _ = _evaluate(src, tech, common + at_r + scope_scen, {})
-    best_set = [f"{tech}.{k}={v}" for k, (v, _) in adapter.best.items()]
-    best, chosen = _evaluate(src, tech, common + at_r + best_set + scope_set, adapter.search)
+    key = (base.sha256 or json.dumps(src.source, sort_keys=True, default=str), tuple(src.overrides), tech,
+           float(r), scope)
+    if key not in _DESIGNS:
+        if len(_DESIGNS) > 64:
+            _DESIGNS.clear()
+        best_set = [f"{tech}.{k}={v}" for k, (v, _) in adapter.best.items()]
+        _DESIGNS[key] = (_evaluate(src, tech, common + at_r + scope_scen, {})[0],
+                         *_evaluate(src, tech, common + at_r + best_set + scope_set, adapter.search))
+    scen, best, chosen = _DESIGNS[key]
 
     w_best, w_scen = best["work_equivalent_kwh_per_m3"], scen["work_equivalent_kwh_per_m3"]
     known = [x for x in (w_best, w_scen) if x is not None]

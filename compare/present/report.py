@@ -114,6 +114,17 @@ def _get(r, field):
     return _num(v)
 
 
+def fmt(v, digits: int = 4) -> str:
+    """A figure for the page: thousands grouped from 10,000 up, else ``digits`` significant figures; None as a
+    dash."""
+    v = _num(v)
+    if v is None:
+        return "—"
+    if abs(v) >= 1e4:
+        return f"{v:,.0f}"
+    return fmt_number(v, digits)
+
+
 def _show(v) -> str:
     if isinstance(v, list):
         return ", ".join(map(str, v))
@@ -258,19 +269,20 @@ def sweep_context(sweep: dict) -> dict:
 
 
 # ------------------------------------------------------------------------------------------------------ render
-def energy_figure(payload: dict) -> str:
+def energy_figure(payload: dict, width: int = 460) -> str:
     recs = payload["results"]
     rows = []
     for r in recs:
         e = _get(r, "electricity_kwh_per_m3")
         q = _get(r, "work_equivalent_kwh_per_m3")
         rows.append((r["technology"].upper(), None if e is None else [e, (q or e) - e], "infeasible here"))
-    marks = ("least work of its own streams", [_num(r.get("least_work_kwh_per_m3")) for r in recs])
-    line = ("floor at zero recovery", _num(payload["floor"].get("least_work_kwh_per_m3_zero_recovery")))
+    marks = ("least work, own streams", [_num(r.get("least_work_kwh_per_m3")) for r in recs])
+    line = ("floor (zero recovery)", _num(payload["floor"].get("least_work_kwh_per_m3_zero_recovery")))
     return stacked_bars(rows, [("electricity", PALETTE[0]), ("work equivalent of heat", PALETTE[1])],
                         unit="kWh/m3 of product (work equivalent)", marks=marks,
                         line=line if line[1] is not None else None,
-                        label="Energy of each technology against the thermodynamic floor", cls="energy")
+                        label="Energy of each technology against the thermodynamic floor", cls="energy",
+                        width=width)
 
 
 def cost_figure(payload: dict) -> str:
@@ -339,7 +351,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
             continue     # no technology uses heat: leave its rows out
         table.append({"group": grp if grp != group else "", "label": label,
                       "unit": unit.format(currency=currency),
-                      "values": [fmt_number(v, digits + 1) if v is not None else "—" for v in values]})
+                      "values": [fmt(v, digits + 1) for v in values]})
         group = grp
     table.insert(0, {"group": "", "label": "feasible", "unit": "",
                      "values": ["yes" if r["feasible"] else "NO" for r in recs]})
@@ -348,7 +360,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         det = {k: v for k, v in (r.get("details") or {}).items()
                if k not in ("cost_breakdown_per_m3", "work_equivalent_of_heat_kwh_per_m3") and not isinstance(v, dict)}
         designs.append({"name": r["technology"].upper(),
-                        "items": [(k, fmt_number(_num(v), 4) if _num(v) is not None else _show(v))
+                        "items": [(k, fmt(v) if _num(v) is not None else _show(v))
                                   for k, v in det.items()]})
     flag_groups = []
     ff = floor_flags(payload)
@@ -425,7 +437,10 @@ def render(payload: dict, run: dict, judgements=(), sweep: dict | None = None) -
 
     env = jinja2.Environment(loader=jinja2.FileSystemLoader(str(TEMPLATES)), autoescape=True,
                              undefined=jinja2.StrictUndefined, trim_blocks=True, lstrip_blocks=True)
-    env.filters["svg"] = lambda s: jinja2.utils.markupsafe.Markup(s)
+    Markup = jinja2.utils.markupsafe.Markup
+    env.filters["svg"] = Markup
+    # dotted keys may break after their dots on a narrow screen
+    env.filters["key"] = lambda k: Markup(".<wbr>").join(str(k).split("."))
     return env.get_template("report.html.j2").render(**context(payload, run, judgements, sweep))
 
 

@@ -21,13 +21,13 @@ def nice_ticks(lo: float, hi: float, n: int = 5) -> list[float]:
 
     Examples
     --------
-    >>> nice_ticks(0, 13.4)
-    [0.0, 2.5, 5.0, 7.5, 10.0, 12.5, 15.0]
+    >>> nice_ticks(0, 12)
+    [0.0, 2.5, 5.0, 7.5, 10.0, 12.5]
     """
     if not (math.isfinite(lo) and math.isfinite(hi)) or hi <= lo:
         hi = lo + 1.0
     raw = (hi - lo) / n
-    mag = 10 ** math.floor(math.log10(raw))
+    mag = 10.0 ** math.floor(math.log10(raw))
     step = next(m * mag for m in (1, 2, 2.5, 5, 10) if m * mag >= raw)
     start = math.floor(lo / step) * step
     ticks, t = [], start
@@ -80,7 +80,7 @@ def _legend(items, x0, y, width) -> tuple[list[str], float]:
     return out, y + 14
 
 
-def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, width: int = 520,
+def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, width: int = 560,
                  cls: str = "bars") -> str:
     """Horizontal stacked bars, one row per item, its label above the bar and its total after it.
 
@@ -111,9 +111,9 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
         body.append(_text(pad_l, ty, name, weight="bold"))
         by = ty + 6
         if vals is None:
+            body.append(_text(pad_l + 9 * len(name) + 12, ty, note or "no figures", size=FONT - 1, fill="#a00"))
             body.append(f'<rect x="{pad_l}" y="{by:.1f}" width="{plot_w:.1f}" height="{bar_h}" fill="none" '
                         f'stroke="#999" stroke-dasharray="4 3"/>')
-            body.append(_text(pad_l + 8, by + 15, note or "no figures", size=FONT - 1, fill="#a00"))
         else:
             x = sx(0)
             for (pname, colour), v in zip(parts, vals):

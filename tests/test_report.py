@@ -1,0 +1,188 @@
+"""desal report: one self-contained report.html, checked in headless Chromium when it is installed."""
+
+import json
+import re
+from html.parser import HTMLParser
+from pathlib import Path
+
+import pytest
+
+from compare.cli import main
+from compare.present import CAUTION, browser
+from compare.present.report import CAUTIONS, render
+
+SITE = """name = "Test Shore (fictional)"
+[site]
+capacity = "20000 m^3/day"
+[feed]
+salinity = "35 g/kg"
+temperature = "25 degC"
+[energy]
+electricity_price = "0.09 USD/kWh"
+
+[claim]
+technology = "ro"
+electricity = "2.9 kWh/m^3"
+recovery = "45 %"
+source = "a fictional vendor sheet"
+"""
+CLAIMS = """[[claim]]
+technology = "med"
+electricity = "0.2 kWh/m^3"
+heat = "4 kWh/m^3"
+heat_temperature = "70 degC"
+recovery = 0.5
+"""
+NO_CHROMIUM = "headless Chromium is not installed (Debian: apt-get install chromium; .ci/run installs it as root)"
+
+
+class _Dom(HTMLParser):
+    """Element counts, the children of each <svg>, and the visible text of a page."""
+
+    def __init__(self):
+        super().__init__()
+        self.tags, self.svgs, self.text, self.stack, self.urls = {}, [], [], [], []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags[tag] = self.tags.get(tag, 0) + 1
+        if tag == "svg":
+            self.svgs.append({"class": dict(attrs).get("class", ""), "shapes": 0, "texts": 0})
+        elif self.svgs and "svg" in self.stack:
+            if tag in ("rect", "line", "polyline", "circle", "path"):
+                self.svgs[-1]["shapes"] += 1
+            elif tag == "text":
+                self.svgs[-1]["texts"] += 1
+        self.urls += [v for k, v in attrs if k in ("src", "href") and v and not v.startswith("#")]
+        if tag not in ("rect", "line", "polyline", "circle", "path", "meta", "wbr", "br"):
+            self.stack.append(tag)
+
+    def handle_endtag(self, tag):
+        if tag not in self.stack:
+            return
+        while self.stack:
+            if self.stack.pop() == tag:
+                break
+
+    def handle_data(self, data):
+        if "style" not in self.stack and "title" not in self.stack[-1:]:
+            self.text.append(data)
+
+    @property
+    def page_text(self):
+        return re.sub(r"\s+", " ", "".join(self.text))
+
+
+@pytest.fixture(scope="module")
+def made(tmp_path_factory):
+    """A sweep run folder and a report of the same fictional site, with a --set that makes FO infeasible."""
+    tmp = tmp_path_factory.mktemp("report")
+    scenario = tmp / "site.toml"
+    scenario.write_text(SITE)
+    (tmp / "claims.toml").write_text(CLAIMS)
+    assert main(["sweep", str(scenario), "--vary", "energy.electricity_price=0.05 USD/kWh:0.2 USD/kWh:4", "--set",
+                 "fo.enabled=false", "--out", str(tmp / "sweeps"), "--quiet", "--format", "json"]) == 0
+    sweep = next((tmp / "sweeps").iterdir())
+    assert main(["report", str(scenario), "--set", "fo.recovery=0.6", "--claim-file", str(tmp / "claims.toml"),
+                 "--sweep", str(sweep), "--out", str(tmp / "reports"), "--pdf"]) == 0
+    return next((tmp / "reports").iterdir())
+
+
+def test_report_is_one_self_contained_file(made):
+    html = (made / "report.html").read_text(encoding="utf-8")
+    assert "<script" not in html.lower()
+    assert not re.search(r"https?:", html), "the page names a URL"
+    assert "@import" not in html and "url(" not in html and "@font-face" not in html
+    dom = _Dom()
+    dom.feed(html)
+    assert dom.urls == [], dom.urls                      # no src or href other than in-page anchors
+    assert dom.tags.get("link", 0) == 0 and dom.tags.get("img", 0) == 0
+    assert {"results.json", "run.json", "claims.json", "report.html"} <= {p.name for p in made.iterdir()}
+
+
+def test_report_says_everything_it_must(made):
+    dom = _Dom()
+    dom.feed((made / "report.html").read_text(encoding="utf-8"))
+    text = dom.page_text
+    payload = json.loads((made / "results.json").read_text())
+    run = json.loads((made / "run.json").read_text())
+    for key, item in run["scenarios"][0]["inputs"].items():      # every resolved input and its source
+        assert key.split(".")[-1] in text and item["source"] in text, key
+    assert "fo.recovery=0.6" in text and "--set" in text          # the override is shown
+    assert run["version"] in text and run["scenarios"][0]["sha256"] in text and run["created"] in text
+    assert "0.9802" in text or "0.98" in text                     # the feed's water activity (teos10, 35 g/kg)
+    assert "least work at zero recovery" in text
+    for rec in payload["results"]:
+        assert rec["technology"].upper() in text
+    assert "cannot work" in text and "FO" in text                 # the infeasible FO, in words
+    assert "below_floor" in text and "a fictional vendor sheet" in text and "within_model" in text
+    assert CAUTION in text and all(c in text for c in CAUTIONS)
+    assert "RO to MED" in text or "first place" in text.lower()    # the sweep's ranking
+
+
+def test_figures_are_drawn(made):
+    dom = _Dom()
+    dom.feed((made / "report.html").read_text(encoding="utf-8"))
+    classes = [s["class"] for s in dom.svgs]
+    assert any("energy" in c for c in classes) and any("cost" in c for c in classes)
+    assert sum("sweep" in c for c in classes) == 2
+    for s in dom.svgs:
+        assert s["shapes"] >= 5 and s["texts"] >= 3, s
+
+
+@pytest.mark.skipif(browser.find() is None, reason=NO_CHROMIUM)
+def test_report_in_headless_chromium(made):
+    """The page as Chromium loads it: no console message, every figure drawn, the text there, a screenshot kept."""
+    dom_text, console = browser.load(made / "report.html")
+    assert console == [], console
+    dom = _Dom()
+    dom.feed(dom_text)
+    assert dom.tags.get("script", 0) == 0
+    assert len(dom.svgs) == 4 and all(s["shapes"] >= 5 for s in dom.svgs)
+    assert "Test Shore (fictional)" in dom.page_text and CAUTION in dom.page_text
+    png = (made / "report.png").read_bytes()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n" and len(png) > 20_000
+    width, height = int.from_bytes(png[16:20], "big"), int.from_bytes(png[20:24], "big")
+    assert (width, height) == browser.WINDOW
+    assert (made / "report.pdf").read_bytes()[:5] == b"%PDF-"
+
+
+def test_without_chromium_the_report_is_still_written(tmp_path, monkeypatch, capsys):
+    monkeypatch.setattr(browser, "find", lambda: None)
+    scenario = tmp_path / "site.toml"
+    scenario.write_text(SITE.split("[claim]")[0] + "[fo]\nenabled = false\n[med]\nenabled = false\n")
+    assert main(["report", str(scenario), "--out", str(tmp_path / "r"), "--pdf"]) == 0
+    err = capsys.readouterr().err
+    assert "Chromium is not installed" in err and "no report.pdf" in err
+    folder = next((tmp_path / "r").iterdir())
+    assert (folder / "report.html").is_file() and not (folder / "report.png").exists()
+
+
+def test_report_reads_flags_when_the_payload_has_them(made):
+    """A payload with ``flags`` objects (and an infeasible record with null figures) is shown from its flags."""
+    payload = json.loads((made / "results.json").read_text())
+    run = json.loads((made / "run.json").read_text())
+    fo = next(r for r in payload["results"] if r["technology"] == "fo")
+    for k in ("electricity_kwh_per_m3", "work_equivalent_kwh_per_m3", "levelized_cost_per_m3", "power_mw"):
+        fo[k] = None
+    fo["flags"] = [{"kind": "infeasible", "code": "driving_force", "quantity": "draw_concentration", "model": "fo",
+                    "message": "the draw is too weak for this recovery"}]
+    payload["floor"]["flags"] = [{"kind": "out_of_range", "code": "salinity", "quantity": "feed_salinity",
+                                  "model": "teos10", "message": "feed salinity outside teos10's range"}]
+    html = render(payload, run)
+    assert "The draw is too weak for this recovery." in html and "Feed salinity outside teos10" in html
+    assert "outside its validated range" in html and "infeasible here" in html
+
+
+def test_bad_sweep_folder_is_one_line(tmp_path, capsys):
+    scenario = tmp_path / "site.toml"
+    scenario.write_text(SITE)
+    assert main(["report", str(scenario), "--sweep", str(tmp_path), "--out", str(tmp_path / "r")]) == 2
+    assert "--sweep: expected a sweep run folder" in capsys.readouterr().err
+    assert not (tmp_path / "r").exists()
+
+
+def test_template_ships_with_the_package():
+    from importlib import resources
+    assert resources.files("compare.present").joinpath("templates/report.html.j2").is_file()
+    text = (Path(__file__).resolve().parents[1] / "pyproject.toml").read_text()
+    assert "templates/*.j2" in text and "jinja2" in text
