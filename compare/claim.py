@@ -296,17 +296,16 @@ def judge(source, claim: dict, overrides=()) -> dict:
     fmt = lambda x: f"{x:.2f} kWh/m3"  # noqa: E731
     if w_claim < lw:
         verdict = "below_floor"
-        why = (f"the claim's work equivalent {fmt(w_claim)} is below the least work of its own streams, {fmt(lw)}: "
-               "no process can do that")
+        why = (f"the claim's work equivalent {fmt(w_claim)} is below the least work of its own streams, {fmt(lw)}, "
+               "which no process can beat")
     elif lower is None:
         verdict = "below_model"
         why = (f"the claim's work equivalent {fmt(w_claim)} is above the least work ({fmt(lw)}), but this tool finds "
-               f"no feasible {name} design at recovery {r:.3g} at this site, even with best-practice parameters: "
-               "the claim needs evidence")
+               f"no feasible {name} design at recovery {r:.3g} at this site, even with best-practice parameters")
     elif w_claim < lower:
         verdict = "below_model"
         why = (f"the claim's work equivalent {fmt(w_claim)} is below this tool's best-practice {name} design, "
-               f"{fmt(lower)} (least work {fmt(lw)}): extraordinary, it needs evidence")
+               f"{fmt(lower)}, though above the least work, {fmt(lw)}")
     elif w_claim <= upper:
         verdict = "within_model"
         why = (f"the claim's work equivalent {fmt(w_claim)} lies between the best-practice design, {fmt(lower)}, "
@@ -314,7 +313,7 @@ def judge(source, claim: dict, overrides=()) -> dict:
     else:
         verdict = "above_model"
         why = (f"the claim's work equivalent {fmt(w_claim)} is above the scenario's design times {MARGIN:g}, "
-               f"{fmt(upper)}: more than this technology needs here (or a wider scope than stated)")
+               f"{fmt(upper)}, unless the claim covers more than its stated scope")
     texts = claim.get("texts", {})
     return {
         "verdict": verdict,
