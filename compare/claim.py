@@ -85,9 +85,10 @@ _RO_SEARCH = {
     "water_permeability": (["1 L/m^2/h/bar", "1.5 L/m^2/h/bar", "2 L/m^2/h/bar", "3 L/m^2/h/bar", "5 L/m^2/h/bar",
                             "8 L/m^2/h/bar", "12 L/m^2/h/bar", "20 L/m^2/h/bar", "50 L/m^2/h/bar",
                             "1000 L/m^2/h/bar"],
-                           "the most permeable membrane whose design stays within the tool's limits (the lead "
-                           "element's flux)"),
-    "flux": (["10 L/m^2/h", "12 L/m^2/h", "14 L/m^2/h"], "practice: seawater design flux 10-14 L/m2/h"),
+                           "membranes from 1 to 1000 L/m2/h/bar, with the flux: the least-energy design that stays "
+                           "within the tool's limits (the lead element's flux caps how permeable a membrane helps)"),
+    "flux": (["10 L/m^2/h", "12 L/m^2/h", "14 L/m^2/h"], "with the permeability; practice: seawater design flux "
+             "10-14 L/m2/h"),
 }
 _PLANT_OTHER = ("0.3 kWh/m^3", "practice: the lean end of intake, pretreatment and post-treatment electricity "
                 "(no source)")

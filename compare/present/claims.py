@@ -27,12 +27,9 @@ def figure_rows(j: dict) -> list[list]:
     return [[row["figure"], row["kwh_per_m3"]] for row in j["compared"]]
 
 
-def parameter_rows(j: dict) -> list[list]:
-    rows = []
-    for label, design in (("best practice", j["best_practice"]), ("scenario", j["scenario_design"])):
-        for k, v in design["parameters"].items():
-            rows.append([label, k, v["value"], v["why"]])
-    return rows
+def parameter_rows(j: dict, design: str = "best_practice") -> list[list]:
+    """The keys a design sets (best practice: changed from the scenario's design), each with its reason."""
+    return [[k, v["value"], v["why"]] for k, v in j[design]["parameters"].items()]
 
 
 def notes(j: dict) -> list[str]:
@@ -63,7 +60,13 @@ def print_claims(console, body: dict) -> None:
     from .tables import rich_table
     for j in body["claims"]:
         console.print(rich_table(title(j), ["compared (work equivalent)", "kWh/m3"], figure_rows(j)))
-        console.print(rich_table("parameters of the designs", ["design", "key", "value", "why"], parameter_rows(j)))
+        for design, heading in (("best_practice", "best-practice design: keys changed from the scenario's"),
+                                ("scenario_design", "scenario's design: keys changed for the scope")):
+            if j[design]["parameters"]:
+                table = rich_table(heading, ["key", "value", "why"], parameter_rows(j, design))
+                for column in table.columns[1:]:
+                    column.justify = "left"
+                console.print(table)
         style = {"below_floor": "bold red", "below_model": "bold yellow", "within_model": "bold green",
                  "above_model": "bold magenta"}[j["verdict"]]
         console.print(Text(j["verdict"], style=style))
@@ -79,7 +82,11 @@ def claims_markdown(body: dict) -> str:
     for j in body["claims"]:
         parts += [f"## {title(j)}", "", f"**{j['verdict']}**", "",
                   markdown_table(["compared (work equivalent)", "kWh/m3"], figure_rows(j)), "",
-                  markdown_table(["design", "key", "value", "why"], parameter_rows(j)), ""]
+                  "Best-practice design, keys changed from the scenario's:", "",
+                  markdown_table(["key", "value", "why"], parameter_rows(j)), ""]
+        if j["scenario_design"]["parameters"]:
+            parts += ["Scenario's design, keys changed for the scope:", "",
+                      markdown_table(["key", "value", "why"], parameter_rows(j, "scenario_design")), ""]
         parts += [f"- {line}" for line in notes(j)] + [""]
     parts += [f"> {CAUTION}", ""]
     return "\n".join(parts)
