@@ -209,20 +209,30 @@ def scenario_record(scenario: Scenario, tech: str) -> dict:
 #: (a report's, a test's) share them; keyed by the scenario file's hash, so an edited file is evaluated again
 _DESIGNS: dict = {}
 
-def _least_work(scenario: Scenario, r: float) -> tuple[float, float]:
-    """Least work [kWh/m^3] of the claimed streams (feed at recovery ``r``, product at the scenario's target) and
-    the production-weighted dead state [K] (the feed temperature)."""
+def _least_work(scenario: Scenario, r: float) -> tuple[float, float, list[str]]:
+    """Least work [kWh/m^3] of the claimed streams (feed at recovery ``r``, product at the scenario's target), the
+    production-weighted dead state [K] (the feed temperature) and warnings (a brine outside the model's range).
+
+    A recovery that leaves no liquid brine (above 600 g/kg, as ``desal floor`` refuses) is bad input."""
     from .accounting import month_weights
-    from .thermo.activity import get_model
-    from .thermo.floor import least_work
+    from .thermo.activity import get_model, out_of_range_text, range_flags
+    from .thermo.floor import brine_salinity, least_work
 
     feed = scenario.values["feed"]
     extra = {"composition": feed["ions"]} if feed["water"] == "ions" else {}
     model = get_model(feed["model"], feed["water"], **extra)
     T = np.atleast_1d(np.asarray(feed["temperature"], dtype=float))
+    S_p = scenario.values["product"]["salinity"]
+    S_b = float(brine_salinity(feed["salinity"], r, S_p))
+    if S_b >= 0.6:
+        raise InputError(f'--recovery: expected a recovery that leaves a liquid brine, got {r:g} (the brine would be '
+                         f"{S_b * 1e3:.0f} g/kg)")
     w = month_weights(T.size)
-    lw = least_work(model, feed["salinity"], T, r, scenario.values["product"]["salinity"], feed["water"])
-    return float(np.sum(w * lw)) / J_PER_KWH, float(np.sum(w * T))
+    lw = least_work(model, feed["salinity"], T, r, S_p, feed["water"])
+    flags = range_flags(model, S_b, T)
+    warnings = [out_of_range_text(f"the claim's brine ({S_b * 1e3:.0f} g/kg)", model)] \
+        if np.any(flags["salinity"]) else []
+    return float(np.sum(w * lw)) / J_PER_KWH, float(np.sum(w * T)), warnings
 
 
 def claim_work_equivalent(electricity, heat, heat_temperature, T0) -> tuple[float, float]:
@@ -271,7 +281,7 @@ def judge(source, claim: dict, overrides=()) -> dict:
         if r is None:
             raise InputError(f"--recovery: expected a recovery (the scenario's design of {tech} gives none), got none")
     at_r = adapter.recovery(float(r), base)
-    lw, T0 = _least_work(base, float(r))
+    lw, T0, lw_warnings = _least_work(base, float(r))
     T_feed = np.atleast_1d(np.asarray(base.values["feed"]["temperature"], dtype=float))
 
     e, q = kwh(claim["electricity"]), kwh(claim.get("heat") or 0.0)
@@ -336,6 +346,7 @@ def judge(source, claim: dict, overrides=()) -> dict:
             "dead_state": "the feed temperature (the least work's own), whatever the scenario's heat_to_work",
         },
         "least_work_kwh_per_m3": lw,
+        "warnings": lw_warnings,
         "best_practice": {**best, "parameters": {**{k: {"value": v, "why": why_} for k, (v, why_) in
                                                     adapter.best.items()},
                                                  **{k: {"value": chosen.get(k), "why": f"searched: {why_}"}

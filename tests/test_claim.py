@@ -170,6 +170,8 @@ def test_claim_command_line(site, capsys):
     assert main(["claim", site]) == 2
     assert "[claim] section" in capsys.readouterr().err
     assert main(["claim", site, "--technology", "ro", "--electricity", "3 kWh/m^3", "--scope", "site"]) == 2
+    assert main(["claim", site, "--technology", "ro", "--electricity", "3 kWh/m^3", "--recovery", "0.97"]) == 2
+    assert "--recovery: expected a recovery that leaves a liquid brine" in capsys.readouterr().err
     assert main(["claim", site, "--technology", "ro", "--electricity", "3 kWh/m^3", "--format", "csv",
                  "--recovery", "0.5"]) == 0
     assert "verdict" in capsys.readouterr().out.splitlines()[0]
@@ -181,3 +183,12 @@ def test_a_bad_claim_file_names_it(tmp_path):
     with pytest.raises(InputErrors) as exc:
         load_claims(bad)
     assert any("claims: unknown key" in m for m in exc.value.messages)
+
+
+def test_a_brine_beyond_the_model_is_flagged_and_no_design_is_below_model(site):
+    # 35 g/kg at 80 % recovery leaves a 173 g/kg brine: beyond TEOS-10's 120 g/kg (Feistel 2008), and beyond RO's
+    # pressure limit (the concentrate's osmotic pressure is above 82.7 bar: thermodynamic restriction)
+    j = judge(site, claim("ro", 3.0, recovery=0.8))
+    assert any("outside the validated range" in w for w in j["warnings"])
+    assert j["verdict"] == "below_model" and "no feasible RO design" in j["explanation"]
+    assert j["within_model_kwh_per_m3"] == [None, None]

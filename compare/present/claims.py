@@ -46,6 +46,7 @@ def notes(j: dict) -> list[str]:
     out.append(f"within_model spans {fmt_number(lo, 3)} to {fmt_number(hi, 3)} kWh/m3: from the lower of the "
                f"best-practice and scenario designs to the scenario's design times {j['margin']:g} "
                f"({j['margin_source']}).")
+    out += [f"Least work: {w}." for w in j.get("warnings", [])]
     for label, design in (("best-practice design", j["best_practice"]), ("scenario's design", j["scenario_design"])):
         if not design["feasible"]:
             out.append(f"The {label} is infeasible at this recovery: "

@@ -328,7 +328,11 @@ def _question(payload: dict, inputs: dict, techs: list[str]) -> str:
                                               else "")
     else:
         t = _show(temps)
-    names = ", ".join(x.upper() for x in techs) or "no technology"
+    names = ", ".join(x.upper() for x in techs)
+    if not techs:
+        return (f"{payload['scenario']}: what is the thermodynamic floor (the least work of separation) of "
+                f"{v('feed.water')} of {v('feed.salinity')} at {t}? No technology is enabled, so only the floor is "
+                "shown.")
     return (f"{payload['scenario']} needs {v('site.capacity')} of fresh water (product at most "
             f"{v('product.salinity')}) from {v('feed.water')} of {v('feed.salinity')} at {t}. How much electricity "
             f"and heat would {names} use here, how far is each from the thermodynamic floor (the least work of "
