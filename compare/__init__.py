@@ -26,7 +26,7 @@ def floor(salinity, temperature, recovery=0.5, product_salinity=0.0, water="seaw
     >>> round(rec["least_work_kwh_per_m3"], 3)
     1.022
     """
+    from .present.records import floor_record
     from .thermo.activity import get_model
-    from .thermo.floor import floor_record
 
     return floor_record(get_model(model, water), salinity, temperature, recovery, product_salinity)

@@ -13,7 +13,14 @@ Newnan, D. G., Eschenbach, T. G. and Lavelle, J. P., Engineering Economic Analys
 
 from __future__ import annotations
 
+from dataclasses import dataclass, field
+
 import numpy as np
+
+from .flags import Flag, infeasible_mask, reduce_cases
+from .tech.base import Feed, Performance
+from .thermo.floor import least_work
+from .thermo.model import ActivityModel, range_flags
 
 SECONDS_PER_YEAR = 365.0 * 86400.0
 DAYS_IN_MONTH = np.array([31, 28.25, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31], dtype=float)
@@ -33,7 +40,7 @@ def exergy_factor(T_heat, T0):
 
     Examples
     --------
-    >>> round(float(exergy_factor(343.15, 298.15)), 4)   # CHECKS.md: 0.1311 for 70 degC heat at T0 = 25 degC
+    >>> round(float(exergy_factor(343.15, 298.15)), 4)   # library: 1 - 298.15/343.15 = 0.1311 (70 degC heat, T0 = 25 degC)
     0.1311
     """
     T_heat = np.asarray(T_heat, dtype=float)
@@ -88,3 +95,162 @@ def levelized_cost(capital, fixed_om_share, annual_production, crf, electricity,
     el = electricity * electricity_price
     ht = heat * heat_price
     return {"total": cap + om + el + ht, "capital": cap, "fixed_om": om, "electricity": el, "heat": ht}
+
+
+
+# ------------------------------------------------------------------------------------------------- site accounts
+@dataclass(frozen=True)
+class Site:
+    """What the accounting needs of the site, in SI. ``grid`` arrays are (N cases, M periods), ``case`` arrays (N,).
+
+    Attributes
+    ----------
+    weights : (M,) share of the year's production in each period [-]
+    heat_temperature : grid, temperature of the heat the site supplies [K]
+    dead_state : grid, dead-state temperature T0 [K]
+    heat_to_work : "exergy" | "lost_work"
+    condenser_temperature, turbine_efficiency : grid, for "lost_work" [K], [-]
+    product_target : grid, target product salinity [kg/kg]
+    capacity : case, product flow [m^3/s]
+    annual_production : case [m^3/year]
+    crf : case, capital recovery factor [1/year]
+    electricity_price, heat_price : case [currency/J]
+    electricity_emissions, heat_emissions : case [kg/J]
+    """
+
+    weights: np.ndarray
+    heat_temperature: np.ndarray
+    dead_state: np.ndarray
+    heat_to_work: str
+    condenser_temperature: np.ndarray
+    turbine_efficiency: np.ndarray
+    product_target: np.ndarray
+    capacity: np.ndarray
+    annual_production: np.ndarray
+    crf: np.ndarray
+    electricity_price: np.ndarray
+    heat_price: np.ndarray
+    electricity_emissions: np.ndarray
+    heat_emissions: np.ndarray
+
+
+#: the figures of :class:`Accounts` that need a working design: NaN where a case is infeasible
+DESIGN_DEPENDENT = ("electricity", "heat", "work_equivalent", "second_law_efficiency", "power", "heat_power",
+                    "annual_electricity", "annual_heat", "emissions", "annual_emissions", "levelized_cost",
+                    "cost_capital", "cost_fixed_om", "cost_electricity", "cost_heat", "work_equivalent_of_heat",
+                    "capital")
+
+
+@dataclass(frozen=True)
+class Accounts:
+    """One technology's figures per case (N,), SI: energies [J/m^3], powers [W], annual energy [J/year], emissions
+    [kg/m^3] and [kg/year], costs [currency/m^3], temperatures [K], salinities [kg/kg]. Design-dependent figures
+    (:data:`DESIGN_DEPENDENT`) are NaN where the case is infeasible. ``details`` are the technology's own figures
+    (SI, per case); ``flags`` hold (N,) masks."""
+
+    technology: str
+    feasible: np.ndarray
+    recovery: np.ndarray
+    product_salinity: np.ndarray
+    brine_salinity: np.ndarray
+    electricity: np.ndarray
+    heat: np.ndarray
+    heat_temperature: np.ndarray
+    work_equivalent: np.ndarray
+    work_equivalent_of_heat: np.ndarray
+    least_work: np.ndarray
+    second_law_efficiency: np.ndarray
+    power: np.ndarray
+    heat_power: np.ndarray
+    annual_electricity: np.ndarray
+    annual_heat: np.ndarray
+    emissions: np.ndarray
+    annual_emissions: np.ndarray
+    levelized_cost: np.ndarray
+    cost_capital: np.ndarray
+    cost_fixed_om: np.ndarray
+    cost_electricity: np.ndarray
+    cost_heat: np.ndarray
+    capital: np.ndarray
+    annual_production: np.ndarray
+    details: dict = field(default_factory=dict)
+    flags: tuple = ()
+
+
+def work_equivalent_factor(T_heat, site: Site):
+    """Work per unit of heat taken at T_heat [K] under the site's heat-to-work rule [-] (grid)."""
+    if site.heat_to_work == "exergy":
+        return exergy_factor(T_heat, site.dead_state)
+    return lost_work_factor(T_heat, site.condenser_temperature, site.turbine_efficiency)
+
+
+def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site: Site, capital_cost,
+            fixed_om) -> Accounts:
+    """The accounts of one technology's :class:`Performance` on N cases by M periods.
+
+    Adds the checks every technology gets: heat colder than the technology needs makes it infeasible (code
+    ``heat_temperature``); a product above the target is ``off_target``; a brine outside the activity model's
+    validated range is ``out_of_range`` (unless the technology flagged its brine itself). Per-m^3 figures are
+    production-weighted over the periods; a case is feasible when every period is.
+
+    Parameters
+    ----------
+    capital_cost : case or scalar, capital per unit of capacity [currency day/m^3] (money per m^3/day)
+    fixed_om : case or scalar, fixed O&M as a share of capital per year [1/year]
+    """
+    n, M = site.capacity.size, site.weights.size
+    shape = (n, M)
+
+    def grid(x):
+        return np.broadcast_to(np.asarray(x, dtype=float), shape)
+
+    def per_case(x):
+        return np.sum(grid(x) * site.weights, axis=1)
+
+    e, q, Th = grid(perf.electricity), grid(perf.heat), grid(perf.heat_temperature)
+    r, Sp, Sb = grid(perf.recovery), grid(perf.product_salinity), grid(perf.brine_salinity)
+    T, S_f = grid(feed.temperature), grid(feed.salinity)
+    uses_heat = q > 0
+    phi = work_equivalent_factor(np.where(uses_heat, Th, 1000.0), site)
+    work_heat = np.where(uses_heat, q * phi, 0.0)
+    lw = least_work(model, S_f, T, np.clip(r, 0.0, 0.999), np.minimum(Sp, S_f * 0.999), model.water)
+    flags = list(perf.flags)
+    too_cold = uses_heat & (Th > site.heat_temperature + 1e-9)
+    if too_cold.any():
+        flags.append(Flag("infeasible", "heat_temperature", "heat_temperature", name,
+                          f"{name.upper()}: needs heat hotter than the site supplies", too_cold))
+    off = Sp > site.product_target * (1 + 1e-9)
+    if off.any():
+        flags.append(Flag("off_target", "product_salinity", "product_salinity", name,
+                          f"{name.upper()}: product salinity above the target", off))
+    if not any(f.code == "brine_salinity" for f in flags):
+        feed_bad = ~model.validity.salinity_ok(S_f)
+        flags += [f.with_mask(f.where(shape) & ~feed_bad) for f in range_flags(model, np.nan_to_num(Sb), T,
+                                                                               f"{name.upper()} brine", "brine")
+                  if f.code == "brine_salinity"]
+    flags = reduce_cases(flags, shape, axis=1)
+    feasible = ~infeasible_mask(flags, (n,))
+
+    e_y, q_y, wq_y, lw_y = per_case(e), per_case(q), per_case(work_heat), per_case(lw)
+    we_y = e_y + wq_y
+    capital = np.broadcast_to(np.asarray(capital_cost, dtype=float), (n,)) * site.capacity * 86400.0
+    om_share = np.broadcast_to(np.asarray(fixed_om, dtype=float), (n,))
+    cost = levelized_cost(capital, om_share, site.annual_production, site.crf, e_y, site.electricity_price, q_y,
+                          site.heat_price)
+    emissions = e_y * site.electricity_emissions + q_y * site.heat_emissions
+    with np.errstate(invalid="ignore", divide="ignore"):
+        design = {
+            "electricity": e_y, "heat": q_y, "work_equivalent": we_y, "work_equivalent_of_heat": wq_y,
+            "second_law_efficiency": lw_y / we_y, "power": e_y * site.capacity, "heat_power": q_y * site.capacity,
+            "annual_electricity": e_y * site.annual_production, "annual_heat": q_y * site.annual_production,
+            "emissions": emissions, "annual_emissions": emissions * site.annual_production,
+            "levelized_cost": cost["total"], "cost_capital": cost["capital"], "cost_fixed_om": cost["fixed_om"],
+            "cost_electricity": cost["electricity"], "cost_heat": cost["heat"], "capital": capital,
+        }
+        heat_T = np.where(uses_heat.any(axis=1), np.where(uses_heat, Th, -np.inf).max(axis=1), np.nan)
+    design = {k: np.where(feasible, v, np.nan) for k, v in design.items()}
+    details = {k: per_case(np.asarray(v, dtype=float)) for k, v in perf.details.items()}
+    return Accounts(technology=name, feasible=feasible, recovery=per_case(r), product_salinity=per_case(Sp),
+                    brine_salinity=per_case(Sb), heat_temperature=heat_T, least_work=lw_y,
+                    annual_production=np.asarray(site.annual_production, dtype=float), details=details,
+                    flags=tuple(flags), **design)

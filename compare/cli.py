@@ -13,7 +13,7 @@ from pathlib import Path
 import numpy as np
 
 from . import __version__
-from .errors import InputError, InputErrors, StrictError
+from .errors import InputError, InputErrors
 
 FORMATS = ("table", "json", "csv", "markdown")
 
@@ -80,43 +80,47 @@ def _console():
 def cmd_floor(args) -> int:
     """``desal floor``: least work and osmotic pressure of one feed."""
     from .present import CAUTION
+    from .present.records import floor_record
     from .present.tables import markdown_report, print_tables, rich_table
-    from .thermo.activity import get_model, is_out_of_range
+    from .thermo.activity import get_model
     from .thermo.brine import mass_fraction_from_concentration
-    from .thermo.floor import floor_record
     from .units import parse_salinity, parse_temperature
 
     T = parse_temperature(args.temperature, where="--temperature")
-    if not (150.0 < T < 650.0):
-        raise InputError(f'--temperature: expected a liquid-water temperature between -120 and 375 degC, got '
-                         f'"{args.temperature}"')
     try:
         model = get_model(args.model, args.water)
-    except InputError as exc:
+    except ValueError as exc:
         raise InputError(f"--model: {exc}") from None
+    v = model.validity
+    t_lo, t_hi = v.temperature_limits
+    if not (t_lo - 1e-9 <= T <= t_hi + 1e-9):
+        raise InputError(f"--temperature: expected a temperature within the reach of model {model.name} "
+                         f"({t_lo - 273.15:g}-{t_hi - 273.15:g} degC), got \"{args.temperature}\"")
 
     def salinity(text, where):
         kind, value = parse_salinity(text, where=where)
         return float(mass_fraction_from_concentration(value, T, args.water)) if kind == "concentration" else value
 
     S_f = salinity(args.salinity, "--salinity")
-    if not (0 < S_f < 1):
-        raise InputError(f'--salinity: expected a salinity above zero and below 1000 g/kg, got "{args.salinity}"')
+    if not (0 < S_f <= v.max_salinity):
+        raise InputError(f"--salinity: expected a salinity above zero within the reach of model {model.name} (up to "
+                         f"{v.max_salinity * 1e3:.4g} g/kg), got \"{args.salinity}\"")
     S_p = salinity(args.product_salinity, "--product-salinity")
     if S_p >= S_f:
         raise InputError(f'--product-salinity: expected a product salinity below the feed salinity '
                          f'({S_f * 1e3:.4g} g/kg), got "{args.product_salinity}"')
     r = _parse_recovery(args.recovery)
     S_b_max = (S_f - r.max() * S_p) / (1 - r.max())
-    if S_b_max >= 0.6:
-        raise InputError(f'--recovery: expected a recovery that leaves a liquid brine, got "{args.recovery}" '
+    if S_b_max > v.max_salinity:
+        raise InputError(f'--recovery: expected a recovery that leaves a liquid brine within the reach of model '
+                         f'{model.name} (brine up to {v.max_salinity * 1e3:.4g} g/kg), got "{args.recovery}" '
                          f'(the brine would be {S_b_max * 1e3:.0f} g/kg)')
     single = r.size == 1
     rec = floor_record(model, S_f, T, float(r[0]) if single else r, S_p)
     if args.strict:
-        range_warnings = [w for w in rec["warnings"] if is_out_of_range(w)]
-        if range_warnings:
-            raise StrictError(f"--strict: {range_warnings[0]}")
+        bad = [f for f in rec["flags"] if f["kind"] == "out_of_range"]
+        if bad:
+            raise InputError(f"--strict: out_of_range {bad[0]['code']} ({bad[0]['model']}): {bad[0]['message']}")
     rec["notice"] = CAUTION
 
     feed_rows = [
@@ -138,8 +142,10 @@ def cmd_floor(args) -> int:
         base = {k: v for k, v in rec.items() if k not in ("recovery", "brine_salinity_g_per_kg",
                                                            "brine_osmotic_pressure_bar", "least_work_kwh_per_m3",
                                                            "warnings", "notice")}
+        base.pop("flags")
+        codes = "; ".join(f"{f['kind']}:{f['code']}" for f in rec["flags"])
         return [dict(base, recovery=row[0], brine_salinity_g_per_kg=row[1], brine_osmotic_pressure_bar=row[2],
-                     least_work_kwh_per_m3=row[3], warnings=rec["warnings"]) for row in rec_rows]
+                     least_work_kwh_per_m3=row[3], flags=codes, warnings=rec["warnings"]) for row in rec_rows]
 
     def table():
         print_tables(_console(), [rich_table("Thermodynamic floor", ["feed", "value"], feed_rows),
@@ -168,12 +174,6 @@ def cmd_models(args) -> int:
     return 0
 
 
-def _payload(result) -> dict:
-    from .present import CAUTION
-    return {"scenario": result.scenario.name, "floor": result.floor_record(), "results": result.records(),
-            "warnings": result.warnings(), "notice": CAUTION}
-
-
 def _load_all(paths, overrides):
     from .errors import InputErrors
     from .scenario import load
@@ -195,6 +195,7 @@ def cmd_compare(args) -> int:
     """``desal compare``: every enabled technology for each scenario, side by side."""
     from .pipeline import check_strict, evaluate
     from .present.files import RunFolder, to_csv, to_json
+    from .present.records import payload as _payload
     from .present.tables import markdown_compare, print_compare
     from .runrecord import run_record
 
@@ -213,7 +214,7 @@ def cmd_compare(args) -> int:
         label = scenarios[0].name if len(scenarios) == 1 else f"{len(scenarios)}-scenarios"
         with RunFolder(Path(args.out or "results"), label) as folder:
             files = {"results.json": json_text, "results.csv": csv_text, "report.md": md_text,
-                     "run.json": to_json(run_record(scenarios, ["desal", "compare", *args.argv]))}
+                     "run.json": to_json(run_record(scenarios, ["desal", *args.argv]))}
             for name, text in files.items():
                 folder.write(name, text)
             if args.plot:
@@ -258,6 +259,13 @@ def cmd_sweep(args) -> int:
         axes = []
         cases, notes = sw.sample_cases(scenario, args.samples, args.seed, args.lhs)
         mode = "samples"
+    from .scenario import reach_errors
+    label = scenario.path or scenario.name
+    problems = reach_errors(scenario.values, lambda d: (f"--vary {d}" if mode == "grid" else
+                                                        f"{label}: uncertainty.{d}") if d in cases
+                            else f"{label}: {d}", scenario.texts, varied=cases)
+    if problems:
+        raise InputErrors(problems)
     n = len(next(iter(cases.values())))
     folder = None if args.no_save else RunFolder(Path(args.out or "results"), f"{scenario.name}-sweep")
     frames = [] if args.format == "csv" else None
@@ -286,7 +294,7 @@ def cmd_sweep(args) -> int:
                 parquet.close()
             folder.write("summary.json", to_json(body))
             folder.write("report.md", sweep_markdown(body))
-            folder.write("run.json", to_json(run_record([scenario], ["desal", "sweep", *args.argv])))
+            folder.write("run.json", to_json(run_record([scenario], ["desal", *args.argv])))
             if args.plot:
                 from .present import plots
                 (plots.grid_figure if mode == "grid" else plots.samples_figure)(result, folder)

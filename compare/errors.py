@@ -18,7 +18,3 @@ class InputErrors(InputError):
     def __init__(self, messages: list[str]):
         self.messages = list(messages)
         super().__init__("\n".join(self.messages))
-
-
-class StrictError(InputError):
-    """A value outside a model's validated range while ``--strict`` was asked for."""

@@ -1,8 +1,9 @@
-"""The compare pipeline: a resolved scenario (and optionally N varied cases) -> every enabled technology ->
-accounting -> one frozen result per run. One code path serves a single comparison and a sweep.
+"""The compare pipeline: a resolved scenario (and optionally N varied cases) -> the floor -> every enabled
+technology -> its accounts -> one frozen result. One code path serves a single comparison and a sweep; it visits
+each layer once and converts no units (presenters do, through :mod:`compare.present.fields`).
 
 Shapes: N cases by M periods (M = 1, or 12 months when the feed temperature is given monthly). Technologies see
-arrays that broadcast to (N, M); annual figures are production-weighted sums over the periods.
+arrays that broadcast to (N, M); accounts are per case (production-weighted over the periods).
 """
 
 from __future__ import annotations
@@ -13,115 +14,53 @@ import numpy as np
 
 from . import accounting as acc
 from .errors import InputError
+from .flags import Flag, reduce_cases
 from .scenario import FEED_TEMPERATURE, Scenario
-from .tech.base import TECHNOLOGIES, Feed, Performance
-from .thermo.activity import get_model, is_out_of_range, out_of_range_text, range_flags
-from .thermo.constants import J_PER_KWH
-from .thermo.floor import evaluate_floor, least_work
-
-RECORD_FIELDS = (
-    "technology", "feasible", "recovery", "product_salinity_g_per_kg", "brine_salinity_g_per_kg",
-    "electricity_kwh_per_m3", "heat_kwh_per_m3", "heat_temperature_c", "work_equivalent_kwh_per_m3",
-    "least_work_kwh_per_m3", "second_law_efficiency", "power_mw", "heat_mw", "annual_electricity_gwh",
-    "annual_heat_gwh", "emissions_kg_per_m3", "annual_emissions_t", "levelized_cost_per_m3", "currency", "warnings",
-    "details",
-)
+from .spec import build
+from .tech.base import TECHNOLOGIES, Feed
+from .thermo.activity import get_model
+from .thermo.floor import evaluate_floor
 
 
 @dataclass(frozen=True)
-class TechResult:
-    """Per-case (N,) arrays for one technology, in SI, with warning and infeasibility texts per case."""
+class FloorResult:
+    """The feed's floor per case (N,), SI: water activity [-], osmotic pressure [Pa], least work at zero recovery
+    [J/m^3], feed salinity [kg/kg] and temperature [K] (production-weighted over the periods); flags (N,)."""
 
-    name: str
-    arrays: dict            # name -> (N,) array
-    details: dict           # name -> (N,) array
-    feasible: np.ndarray    # (N,)
-    warnings: list          # per case: list of str
+    water_activity: np.ndarray
+    osmotic_pressure: np.ndarray
+    least_work_zero_recovery: np.ndarray
+    salinity: np.ndarray
+    temperature: np.ndarray
+    model: str
+    flags: tuple
 
 
 @dataclass(frozen=True)
 class RunResult:
-    """The frozen result of evaluating a scenario on N cases."""
+    """The frozen result of evaluating a scenario on N cases: the floor and one :class:`~compare.accounting.Accounts`
+    per enabled technology, in registry order. Presenters read it (:mod:`compare.present.records`)."""
 
     scenario: Scenario
     n_cases: int
-    floor: dict             # name -> (N,) array
-    floor_warnings: list    # per case: list of str
-    technologies: tuple     # TechResult, in registry order
+    floor: FloorResult
+    technologies: tuple
     varied: dict            # dotted key -> (N,) array of SI values
-    model: str              # name of the feed's water activity model
 
-    def records(self, case: int = 0) -> list[dict]:
-        """The contract records of one case, one per technology."""
-        return [_record(t, case, self.scenario.currency) for t in self.technologies]
+    @property
+    def model(self) -> str:
+        return self.floor.model
 
-    def floor_record(self, case: int = 0) -> dict:
-        f = {k: float(v[case]) for k, v in self.floor.items()}
-        return {
-            "water_activity": f["water_activity"],
-            "osmotic_pressure_bar": f["osmotic_pressure"] / 1e5,
-            "least_work_kwh_per_m3_zero_recovery": f["least_work_zero_recovery"] / J_PER_KWH,
-            "model": self.model,
-            "feed_salinity_g_per_kg": f["salinity"] * 1e3,
-            "feed_temperature_c": f["temperature"] - 273.15,
-        }
-
-    def warnings(self, case: int = 0) -> list[str]:
-        out = list(self.floor_warnings[case])
-        for t in self.technologies:
-            out += [f"{t.name}: {w}" for w in t.warnings[case]]
-        return out
+    def flags(self) -> list[Flag]:
+        """Every flag of the run: the floor's, then each technology's."""
+        return [*self.floor.flags, *(f for t in self.technologies for f in t.flags)]
 
 
-def _record(t: TechResult, i: int, currency: str) -> dict:
-    a = {k: float(v[i]) for k, v in t.arrays.items()}
-    rec = {
-        "technology": t.name,
-        "feasible": bool(t.feasible[i]),
-        "recovery": a["recovery"],
-        "product_salinity_g_per_kg": a["product_salinity"] * 1e3,
-        "brine_salinity_g_per_kg": a["brine_salinity"] * 1e3,
-        "electricity_kwh_per_m3": a["electricity"] / J_PER_KWH,
-        "heat_kwh_per_m3": a["heat"] / J_PER_KWH,
-        "heat_temperature_c": a["heat_temperature"] - 273.15 if np.isfinite(a["heat_temperature"]) else None,
-        "work_equivalent_kwh_per_m3": a["work_equivalent"] / J_PER_KWH,
-        "least_work_kwh_per_m3": a["least_work"] / J_PER_KWH,
-        "second_law_efficiency": a["second_law_efficiency"],
-        "power_mw": a["power"] / 1e6,
-        "heat_mw": a["heat_rate"] / 1e6,
-        "annual_electricity_gwh": a["annual_electricity"] / 3.6e12,
-        "annual_heat_gwh": a["annual_heat"] / 3.6e12,
-        "emissions_kg_per_m3": a["emissions"],
-        "annual_emissions_t": a["annual_emissions"] / 1e3,
-        "levelized_cost_per_m3": a["lcow"],
-        "currency": currency,
-        "warnings": list(t.warnings[i]),
-        "details": {
-            "cost_breakdown_per_m3": {k: a[f"lcow_{k}"] for k in ("capital", "fixed_om", "electricity", "heat")},
-            "work_equivalent_of_heat_kwh_per_m3": (a["work_equivalent"] - a["electricity"]) / J_PER_KWH,
-            "annual_production_m3": a["annual_production"],
-            **{k: float(v[i]) for k, v in t.details.items()},
-        },
-    }
-    return rec
-
-
-# -------------------------------------------------------------------------------------------------- evaluation
 def _value(scenario: Scenario, varied: dict, dotted: str, n: int):
     """A (N, 1) array for a varied key, else the scenario's value as is (scalar, or (M,) for temperatures)."""
     if dotted in varied:
         return np.asarray(varied[dotted], dtype=float).reshape(n, 1)
     return scenario.get(dotted)
-
-
-def _texts(masks: dict, n: int, M: int) -> list[list[str]]:
-    """Per case, the texts whose mask holds in any period."""
-    out = [[] for _ in range(n)]
-    for text, mask in masks.items():
-        m = np.broadcast_to(np.asarray(mask, dtype=bool), (n, M)).any(axis=1)
-        for i in np.nonzero(m)[0]:
-            out[i].append(text)
-    return out
 
 
 def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
@@ -130,11 +69,13 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
     n = len(next(iter(varied.values()))) if varied else 1
     get = lambda k: _value(scenario, varied, k, n)  # noqa: E731
 
-    water = scenario.values["feed"]["water"]
-    extra = {}
-    if water == "ions":
-        extra["composition"] = scenario.values["feed"]["ions"]
-    model = get_model(scenario.values["feed"]["model"], water, **extra)
+    feed_values = scenario.values["feed"]
+    water = feed_values["water"]
+    extra = {"composition": feed_values["ions"]} if water == "ions" else {}
+    try:
+        model = get_model(feed_values["model"], water, **extra)
+    except ValueError as exc:
+        raise InputError(f"{scenario.path or scenario.name}: feed.model: {exc}") from None
 
     T = np.atleast_1d(np.asarray(get("feed.temperature"), dtype=float))
     M = 1 if "feed.temperature" in varied else T.shape[-1]
@@ -145,94 +86,54 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
     def case(x):
         return np.broadcast_to(np.asarray(x, dtype=float).reshape(-1), (n,))
 
-    T = grid(T)
-    S_f = grid(get("feed.salinity"))
-    S_p_target = grid(get("product.salinity"))
-    T_heat = grid(get("energy.heat_temperature"))
-    w = acc.month_weights(M)
+    T, S_f = grid(T), grid(get("feed.salinity"))
+    weights = acc.month_weights(M)
+    capacity = case(get("site.capacity"))
+    custom_t0 = ("energy.dead_state_temperature" in varied
+                 or scenario.texts.get("energy.dead_state_temperature") != FEED_TEMPERATURE)
+    site = acc.Site(
+        weights=weights, heat_temperature=grid(get("energy.heat_temperature")),
+        dead_state=grid(get("energy.dead_state_temperature")) if custom_t0 else T,
+        heat_to_work=scenario.values["energy"]["heat_to_work"],
+        condenser_temperature=grid(get("energy.condenser_temperature")),
+        turbine_efficiency=grid(get("energy.turbine_efficiency")), product_target=grid(get("product.salinity")),
+        capacity=capacity,
+        annual_production=capacity * case(get("site.availability")) * acc.SECONDS_PER_YEAR,
+        crf=acc.capital_recovery_factor(case(get("finance.discount_rate")), case(get("finance.lifetime"))),
+        electricity_price=case(get("energy.electricity_price")), heat_price=case(get("energy.heat_price")),
+        electricity_emissions=case(get("energy.electricity_emissions")),
+        heat_emissions=case(get("energy.heat_emissions")))
+
+    fl = evaluate_floor(model, S_f, T, 0.0 * S_f)
 
     def per_case(x):
-        return np.sum(np.broadcast_to(x, (n, M)) * w, axis=1)
+        return np.sum(grid(x) * weights, axis=1)
 
-    # the floor of the feed
-    fl = evaluate_floor(model, S_f, T, 0.0 * S_f)
-    floor = {"water_activity": per_case(fl.water_activity), "osmotic_pressure": per_case(fl.osmotic_pressure),
-             "least_work_zero_recovery": per_case(fl.least_work_zero_recovery), "salinity": per_case(S_f),
-             "temperature": per_case(T)}
-    ff = range_flags(model, S_f, T)
-    floor_masks = {
-        out_of_range_text("feed salinity", model): ff["salinity"],
-        out_of_range_text("feed temperature", model): ff["temperature"],
-    }
-    if model.simplification:
-        floor_masks[f"model {model.name} is a simplification for comparison only"] = np.ones((n, M), bool)
-    floor_warnings = _texts(floor_masks, n, M)
+    floor = FloorResult(per_case(fl.water_activity), per_case(fl.osmotic_pressure),
+                        per_case(fl.least_work_zero_recovery), per_case(S_f), per_case(T), model.name,
+                        tuple(reduce_cases(fl.flags, (n, M), axis=1)))
 
-    feed = Feed(model, water, S_f, T, S_p_target, T_heat, grid(get("site.capacity")))
-    en = scenario.values["energy"]
-    if "energy.dead_state_temperature" in varied or \
-            scenario.texts.get("energy.dead_state_temperature") != FEED_TEMPERATURE:
-        T0 = grid(get("energy.dead_state_temperature"))
-    else:
-        T0 = T                       # default: the feed temperature of each period
-    capacity = case(get("site.capacity"))
-    annual_production = capacity * case(get("site.availability")) * acc.SECONDS_PER_YEAR
-    crf = acc.capital_recovery_factor(case(get("finance.discount_rate")), case(get("finance.lifetime")))
-
+    feed = Feed(model, water, S_f, T, site.product_target, site.heat_temperature, grid(capacity[:, None]))
     results = []
     for name in scenario.technologies:
         tech = TECHNOLOGIES[name]
-        params = {k: _value(scenario, varied, f"{name}.{k}", n) for k in tech.parameters}
-        perf: Performance = tech.evaluate(feed, params)
-        e, q, Th = grid(perf.electricity), grid(perf.heat), grid(perf.heat_temperature)
-        r, Sp, Sb = grid(perf.recovery), grid(perf.product_salinity), grid(perf.brine_salinity)
-        uses_heat = q > 0
-        if en["heat_to_work"] == "exergy":
-            phi = acc.exergy_factor(np.where(uses_heat, Th, 1000.0), T0)
-        else:
-            phi = acc.lost_work_factor(np.where(uses_heat, Th, 1000.0), grid(get("energy.condenser_temperature")),
-                                       grid(get("energy.turbine_efficiency")))
-        work_eq = e + np.where(uses_heat, q * phi, 0.0)
-        lw = least_work(model, S_f, T, np.clip(r, 0.0, 0.999), np.minimum(Sp, S_f * 0.999), water)
-        infeasible = dict(perf.infeasible)
-        too_cold = uses_heat & (Th > T_heat + 1e-9)
-        infeasible["needs heat hotter than the site supplies (energy.heat_temperature)"] = too_cold
-        flags = dict(perf.flags)
-        flags["product salinity above the target (product.salinity)"] = Sp > S_p_target * (1 + 1e-9)
-        bf = range_flags(model, Sb, T)
-        flags[out_of_range_text("brine salinity", model)] = bf["salinity"] & ~ff["salinity"]
-        feasible_nm = np.broadcast_to(perf.feasible, (n, M)) & ~too_cold
-        feasible = feasible_nm.all(axis=1)
+        params = build(tech.parameters, lambda key: _value(scenario, varied, f"{name}.{key}", n))
+        perf = tech.evaluate(feed, params)
+        results.append(acc.account(name, perf, model, feed, site, case(params.capital_cost),
+                                   case(params.fixed_om)))
+    return RunResult(scenario, n, floor, tuple(results), varied)
 
-        e_y, q_y, we_y, lw_y = per_case(e), per_case(q), per_case(work_eq), per_case(lw)
-        capital = case(params["capital_cost"]) * capacity * 86400.0
-        cost = acc.levelized_cost(capital, case(params["fixed_om"]), annual_production, crf, e_y,
-                                  case(get("energy.electricity_price")), q_y, case(get("energy.heat_price")))
-        emissions = e_y * case(get("energy.electricity_emissions")) + q_y * case(get("energy.heat_emissions"))
-        with np.errstate(invalid="ignore", divide="ignore"):
-            arrays = {
-                "recovery": per_case(r), "product_salinity": per_case(Sp), "brine_salinity": per_case(Sb),
-                "electricity": e_y, "heat": q_y,
-                "heat_temperature": np.where(uses_heat.any(axis=1), np.where(uses_heat, Th, -np.inf).max(axis=1),
-                                             np.nan),
-                "work_equivalent": we_y, "least_work": lw_y, "second_law_efficiency": lw_y / we_y,
-                "power": e_y * capacity, "heat_rate": q_y * capacity,
-                "annual_electricity": e_y * annual_production, "annual_heat": q_y * annual_production,
-                "emissions": emissions, "annual_emissions": emissions * annual_production,
-                "lcow": cost["total"], **{f"lcow_{k}": cost[k] for k in ("capital", "fixed_om", "electricity", "heat")},
-                "annual_production": annual_production.astype(float),
-            }
-        details = {k: per_case(np.asarray(val, dtype=float)) for k, val in perf.details.items()}
-        warns = _texts({f"infeasible: {k}": m for k, m in infeasible.items()}, n, M)
-        for i, extra_w in enumerate(_texts(flags, n, M)):
-            warns[i] += extra_w
-        results.append(TechResult(name, arrays, details, feasible, warns))
-    return RunResult(scenario, n, floor, floor_warnings, tuple(results), varied, model.name)
+
+def strict_flag(result: RunResult) -> Flag | None:
+    """The first ``out_of_range`` flag of a run (``--strict`` refuses it), or None."""
+    for f in result.flags():
+        if f.kind == "out_of_range" and f.any():
+            return f
+    return None
 
 
 def check_strict(result: RunResult) -> None:
-    """Raise if any out-of-range flag was raised (``--strict``)."""
-    for i in range(result.n_cases):
-        for w in result.warnings(i):
-            if is_out_of_range(w):
-                raise InputError(f"--strict: {result.scenario.name}: {w}")
+    """Raise a one-line input error naming the first ``out_of_range`` flag (``--strict``)."""
+    f = strict_flag(result)
+    if f is not None:
+        raise InputError(f"--strict: {result.scenario.name}: {f.kind} {f.code} ({f.model}): {f.message}")

@@ -18,6 +18,7 @@ import numpy as np
 
 from .errors import InputError, InputErrors
 from .schema import OPTIONAL, Spec, efficiency, parse_value
+from .spec import specs_of
 from .thermo.activity import MODELS, WATERS
 from .units import CURRENCIES
 
@@ -27,13 +28,12 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
     "site": {
         "capacity": Spec("quantity", None, "required", "m^3/s", 'a product flow such as "40000 m^3/day" or "10 MGD"',
                          lo=0.0, lo_open=True),
-        "availability": Spec("fraction", "0.95", "practice: typical plant availability (no source)",
+        "availability": Spec("fraction", "0.95", "common practice: typical plant availability (no source)",
                              expect='an availability in (0, 1], e.g. 0.95 or "95 %"', lo=0.0, hi=1.0, lo_open=True),
     },
     "feed": {
         "water": Spec("choice", "seawater", "tool default", choices=WATERS),
-        "salinity": Spec("salinity", None, "required", expect="a salinity above zero", lo=0.0, hi=0.5,
-                         lo_open=True),
+        "salinity": Spec("salinity", None, "required", expect="a salinity above zero", lo=0.0, lo_open=True),
         "temperature": Spec("temperatures", None, "required",
                             expect='a temperature between 0 and 100 degC such as "25 degC"',
                             lo=273.15, hi=373.15),
@@ -43,7 +43,7 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
                       choices=tuple(MODELS)),
     },
     "product": {
-        "salinity": Spec("salinity", "0.5 g/kg", "practice: a common drinking-water TDS target of about 500 mg/L",
+        "salinity": Spec("salinity", "0.5 g/kg", "common practice: a common drinking-water TDS target of about 500 mg/L",
                          expect="a product salinity of zero or more", lo=0.0),
     },
     "energy": {
@@ -58,23 +58,23 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
                                "memory: natural-gas boiler, about 0.18 kg CO2/kWh of fuel at 90 % efficiency",
                                "kg/J", 'an emission factor such as "0.2 kg/kWh"', lo=0.0),
         "heat_temperature": Spec("temperature", "110 degC",
-                                 "practice: low-pressure steam available at an industrial site",
+                                 "common practice: low-pressure steam available at an industrial site",
                                  expect='a temperature between 0 and 400 degC such as "110 degC"', lo=273.15,
                                  hi=673.15),
-        "heat_to_work": Spec("choice", "exergy", "exergy of heat at its temperature (DESIGN.md)",
+        "heat_to_work": Spec("choice", "exergy", "exergy of heat at its temperature, Q (1 - T0/T) (Bejan 2016, Advanced Engineering Thermodynamics)",
                              choices=("exergy", "lost_work")),
         "dead_state_temperature": Spec("temperature", FEED_TEMPERATURE, "the feed temperature of each period",
                                        expect='a temperature such as "25 degC"', lo=173.15, hi=373.15),
         "condenser_temperature": Spec("temperature", "40 degC",
-                                      "practice: steam-turbine condenser (used by heat_to_work = \"lost_work\")",
+                                      "common practice: steam-turbine condenser (used by heat_to_work = \"lost_work\")",
                                       expect='a temperature such as "40 degC"', lo=273.15, hi=373.15),
-        "turbine_efficiency": efficiency("0.85", "practice: isentropic efficiency of a steam turbine's last stages"),
+        "turbine_efficiency": efficiency("0.85", "common practice: isentropic efficiency of a steam turbine's last stages"),
     },
     "finance": {
         "currency": Spec("choice", "USD", "tool default", choices=CURRENCIES),
-        "discount_rate": Spec("fraction", "0.07", "practice: a real discount rate for water infrastructure",
+        "discount_rate": Spec("fraction", "0.07", "common practice: a real discount rate for water infrastructure",
                               expect='a discount rate in [0, 1), e.g. 0.07 or "7 %"', lo=0.0, hi=1.0, hi_open=True),
-        "lifetime": Spec("quantity", "25 year", "practice: desalination plant economic life", "year",
+        "lifetime": Spec("quantity", "25 year", "common practice: desalination plant economic life", "year",
                          'a lifetime such as "25 year"', lo=0.0, lo_open=True),
     },
 }
@@ -121,7 +121,7 @@ def sections() -> dict[str, dict[str, Spec]]:
     load_builtin()
     out = dict(SITE_SECTIONS)
     for name, tech in TECHNOLOGIES.items():
-        out[name] = {**COMMON_PARAMETERS, **tech.parameters}
+        out[name] = {**COMMON_PARAMETERS, **specs_of(tech.parameters)}
     return out
 
 
@@ -255,6 +255,9 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
                 ctx["temperature"] = float(np.mean(v))
 
     _cross_checks(values, label, errors)
+    if not errors:
+        errors += reach_errors(values, lambda dotted: (f"--set {dotted}" if sources.get(dotted) == "--set"
+                                                       else f"{label}: {dotted}"), texts)
     uncertainty = _uncertainty(uncertainty_raw, specs, label, errors, ctx)
     claims = parse_claims(claims_raw, label, errors, technologies=[s for s in specs if s not in SITE_SECTIONS]) \
         if claims_raw is not None else ()
@@ -290,7 +293,7 @@ def _cross_checks(values, label, errors):
         else:
             try:
                 get_model(model, water)
-            except InputError as exc:
+            except ValueError as exc:
                 errors.append(f"{label}: feed.model: {exc}")
     ions = feed.get("ions")
     if water == "ions" and ions:
@@ -313,6 +316,77 @@ def _cross_checks(values, label, errors):
                 continue
             parsed[ion] = value / rho if kind == "concentration" else value
         feed["ions"] = parsed
+
+
+def reach_errors(values: dict, where, texts: dict, varied: dict | None = None) -> list[str]:
+    """One line per value beyond what the tool can compute at all: a feed salinity or temperature beyond the
+    activity model's reach, or a technology's recovery (or brine limit) that leaves no liquid brine within it.
+    ``values`` are the scenario's SI values (section -> key -> value), ``varied`` optional arrays of case values
+    (dotted key -> array) that replace them; ``where(dotted)`` names the key as the user gave it, ``texts`` what
+    was written."""
+    from .tech.base import TECHNOLOGIES
+    from .thermo.activity import model_validity
+    from .thermo.constants import T0_C
+
+    varied = varied or {}
+    feed = values.get("feed", {})
+
+    def get(dotted):
+        if dotted in varied:
+            return np.asarray(varied[dotted], dtype=float)
+        sec, key = dotted.split(".", 1)
+        return values.get(sec, {}).get(key)
+
+    def shown(dotted, v):
+        if dotted in varied:
+            return f"{v:.6g} (a varied value)"
+        t = texts.get(dotted)
+        return f'"{t}"' if isinstance(t, str) else repr(t)
+
+    water = feed.get("water")
+    if water is None or feed.get("salinity") is None or feed.get("temperature") is None:
+        return []
+    v = model_validity(feed.get("model"), water)
+    s_max = v.max_salinity
+    t_lo, t_hi = v.temperature_limits
+    out = []
+    S_f = np.asarray(get("feed.salinity"), dtype=float)
+    if np.any(S_f > s_max):
+        worst = float(np.max(S_f))
+        out.append(f"{where('feed.salinity')}: expected a salinity within the reach of the {water} activity model "
+                   f"(up to {s_max * 1e3:.4g} g/kg), got {shown('feed.salinity', worst * 1e3)}"
+                   + ("" if "feed.salinity" in varied or str(texts.get("feed.salinity", "")).endswith("g/kg")
+                      else f" ({worst * 1e3:.4g} g/kg)"))
+        return out
+    T = np.asarray(get("feed.temperature"), dtype=float)
+    if np.any((T < t_lo - 1e-9) | (T > t_hi + 1e-9)):
+        worst = float(T.ravel()[np.argmax(np.abs(T.ravel() - 0.5 * (t_lo + t_hi)))])
+        out.append(f"{where('feed.temperature')}: expected a temperature within the reach of the {water} activity "
+                   f"model ({t_lo - T0_C:g}-{t_hi - T0_C:g} degC), got {worst - T0_C:.4g} degC")
+    s_fmax = float(np.max(S_f))
+    for name, tech in TECHNOLOGIES.items():
+        if not values.get(name, {}).get("enabled", False):
+            continue
+        for key, spec in specs_of(tech.parameters).items():
+            dotted = f"{name}.{key}"
+            val = get(dotted)
+            if val is None or spec.role is None:
+                continue
+            val = np.asarray(val, dtype=float)
+            if spec.role == "recovery":
+                with np.errstate(divide="ignore"):
+                    S_b = S_f / (1 - val)
+                bad = S_b > s_max
+                if np.any(bad):
+                    worst = float(np.max(np.where(bad, val, -np.inf)))
+                    out.append(f"{where(dotted)}: expected a recovery that leaves a liquid brine within the reach "
+                               f"of the activity model (brine up to {s_max * 1e3:.4g} g/kg, so a recovery up to "
+                               f"{1 - s_fmax / s_max:.3g} for this feed), got {shown(dotted, worst)} (brine "
+                               f"{float(np.max(S_b)) * 1e3:.4g} g/kg)")
+            elif spec.role == "brine_salinity" and np.any(val > s_max):
+                out.append(f"{where(dotted)}: expected a brine salinity within the reach of the activity model (up "
+                           f"to {s_max * 1e3:.4g} g/kg), got {shown(dotted, float(np.max(val)) * 1e3)}")
+    return out
 
 
 def _uncertainty(raw, specs, label, errors, ctx) -> dict:

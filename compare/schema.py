@@ -1,8 +1,8 @@
-"""Parameter specifications: what a scenario key accepts, its default and the default's source.
+"""Parsing scenario values by their :class:`~compare.spec.Spec` into SI (pint lives here and in the presenters).
 
-A :class:`Spec` is plain data. The site sections live in :mod:`compare.scenario`; each technology declares its own
-section's specs beside its model (``PARAMETERS`` of a registered technology), so adding a technology never touches
-the scenario loader.
+A :class:`Spec` is plain data (:mod:`compare.spec`). The site sections live in :mod:`compare.scenario`; each
+technology declares its own section as a parameter record class beside its model, so adding a technology never
+touches the scenario loader.
 """
 
 from __future__ import annotations
@@ -16,36 +16,7 @@ from .errors import InputError
 from .units import (SALINITY_EXPECT, currency_of, parse_quantity, parse_salinity, parse_temperature, registry)
 
 
-#: default of a key that may stay unset: the scenario gives the technology None for it
-OPTIONAL = "(none)"
-
-
-@dataclass(frozen=True)
-class Spec:
-    """One scenario key.
-
-    kind: ``quantity`` (converted to ``unit``), ``fraction`` (dimensionless, may be written with %), ``count``
-    (integer), ``flag`` (true/false), ``choice``, ``salinity``, ``nacl_concentration`` (a molality of NaCl or a mass
-    fraction, as a mass fraction), ``temperature``, ``temperatures`` (one value or
-    twelve monthly values), ``money`` (currency times ``unit``), ``table`` (a TOML table, checked by the consumer).
-    ``lo``/``hi`` bound the SI value (``lo_open``/``hi_open`` exclude the bound).
-    """
-
-    kind: str
-    default: Any
-    source: str
-    unit: str | None = None
-    expect: str = ""
-    lo: float | None = None
-    hi: float | None = None
-    lo_open: bool = False
-    hi_open: bool = False
-    choices: tuple = ()
-    help: str = ""
-
-    @property
-    def required(self) -> bool:
-        return self.default is None
+from .spec import OPTIONAL, Spec, build, efficiency_spec, specs_of  # noqa: F401
 
 
 def check_bounds(spec: Spec, value: float, where: str, raw) -> None:
@@ -159,21 +130,19 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
     raise AssertionError(f"unknown spec kind {k}")  # pragma: no cover
 
 
-def efficiency(default, source, what="an efficiency") -> Spec:
-    """A fraction in (0, 1]."""
-    return Spec("fraction", default, source, expect=f"{what} in (0, 1], e.g. 0.85 or \"85 %\"", lo=0.0, hi=1.0,
-                lo_open=True)
+efficiency = efficiency_spec
+
+__all__ = ["Spec", "parse_value", "efficiency", "SALINITY_EXPECT", "parse_defaults"]
 
 
-__all__ = ["Spec", "parse_value", "efficiency", "SALINITY_EXPECT"]
-
-
-def parse_defaults(specs: dict[str, Spec], **over) -> dict:
-    """A technology's parameters in SI from its specs' defaults, with ``over`` (raw texts, or arrays and choices as
-    they are) in their place; keys whose default is :data:`OPTIONAL` give None. For tests and benchmarks that call a
-    technology without a scenario file."""
+def parse_defaults(cls, **over):
+    """A technology's parameter record (of class ``cls``) in SI from its specs' defaults, with ``over`` (raw texts,
+    or arrays and choices as they are; sub-table keys with ``__`` for the dot, ``regenerator__flux``) in their place;
+    keys whose default is :data:`OPTIONAL` give None. For tests and benchmarks that call a technology without a
+    scenario file."""
+    over = {k.replace("__", "."): v for k, v in over.items()}
     out = {}
-    for key, spec in specs.items():
+    for key, spec in specs_of(cls).items():
         raw = over.get(key, spec.default)
         if isinstance(raw, np.ndarray) or spec.kind in ("choice", "flag"):
             out[key] = raw
@@ -181,4 +150,4 @@ def parse_defaults(specs: dict[str, Spec], **over) -> dict:
             out[key] = None
         else:
             out[key] = parse_value(spec, raw, key)
-    return out
+    return build(cls, out.__getitem__)

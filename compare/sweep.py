@@ -24,22 +24,18 @@ import numpy as np
 from .errors import InputError
 from .schema import Spec, check_bounds, parse_value
 from .scenario import Scenario, nearest, sections
-from .thermo.constants import J_PER_KWH
+from .present.fields import RECORD_FIELDS, convert  # pure data, the one field table
 
-#: headline metrics kept per case and technology: name -> (record field, unit label)
-METRICS = {
-    "electricity": ("electricity_kwh_per_m3", "kWh/m3"),
-    "heat": ("heat_kwh_per_m3", "kWh_th/m3"),
-    "work_equivalent": ("work_equivalent_kwh_per_m3", "kWh/m3"),
-    "least_work": ("least_work_kwh_per_m3", "kWh/m3"),
-    "second_law_efficiency": ("second_law_efficiency", "-"),
-    "lcow": ("levelized_cost_per_m3", "{currency}/m3"),
-    "emissions": ("emissions_kg_per_m3", "kg/m3"),
-}
+#: headline metrics kept per case and technology: name -> the Accounts attribute (record field and unit from the
+#: field table)
+METRIC_ATTRS = {"electricity": "electricity", "heat": "heat", "work_equivalent": "work_equivalent",
+                "least_work": "least_work", "second_law_efficiency": "second_law_efficiency",
+                "lcow": "levelized_cost", "emissions": "emissions"}
+_FIELDS = {f.attr: f for f in RECORD_FIELDS}
+#: name -> (record field, unit label)
+METRICS = {m: (_FIELDS[a].name, _FIELDS[a].unit) for m, a in METRIC_ATTRS.items()}
 #: ranking criteria: name -> metric (lower is better)
 RANK_BY = {"cost": "lcow", "energy": "work_equivalent", "emissions": "emissions"}
-_SCALE = {"electricity": 1 / J_PER_KWH, "heat": 1 / J_PER_KWH, "work_equivalent": 1 / J_PER_KWH,
-          "least_work": 1 / J_PER_KWH}
 NOT_VARIABLE = ("choice", "flag", "table")
 
 
@@ -223,6 +219,7 @@ class SweepResult:
     warnings: list = field(default_factory=list)
     seed: int | None = None
     lhs: bool = False
+    flags: list = field(default_factory=list)  # {kind, code, model, message, cases}
 
     @property
     def n(self) -> int:
@@ -252,25 +249,24 @@ def run(scenario: Scenario, cases: dict, *, mode: str, chunk: int | None = None,
         stop = min(n, start + chunk)
         part = {k: v[start:stop] for k, v in cases.items()}
         res = evaluate(scenario, varied=part)
-        floor[start:stop] = res.floor["least_work_zero_recovery"] / J_PER_KWH
+        floor[start:stop] = convert(res.floor.least_work_zero_recovery, "kWh/m3")
         for t in res.technologies:
-            feasible[t.name][start:stop] = t.feasible
-            for m in METRICS:
-                val = np.asarray(t.arrays[m], dtype=float) * _SCALE.get(m, 1.0)
-                metrics[t.name][m][start:stop] = np.where(t.feasible, val, np.nan)
-        for ws in res.floor_warnings:
-            for w in ws:
-                counts[w] = counts.get(w, 0) + 1
-        for t in res.technologies:
-            for ws in t.warnings:
-                for w in ws:
-                    counts[f"{t.name}: {w}"] = counts.get(f"{t.name}: {w}", 0) + 1
+            feasible[t.technology][start:stop] = t.feasible
+            for m, attr in METRIC_ATTRS.items():
+                val = convert(getattr(t, attr), _FIELDS[attr].unit)
+                metrics[t.technology][m][start:stop] = np.where(t.feasible, val, np.nan)
+        for f in res.flags():
+            key = (f.kind, f.code, f.model, f.message)
+            counts[key] = counts.get(key, 0) + int(np.count_nonzero(f.where((stop - start,))))
         if sink is not None:
             sink(case_frame(res, start, {f"{k} [{units[k][0]}]": units[k][1](v) for k, v in part.items()}))
         if progress is not None:
             progress(stop, n)
-    notes = list(warnings or []) + [f"{w} (in {c} of {n} cases)" for w, c in counts.items()]
-    return SweepResult(scenario, mode, cases, techs, metrics, feasible, floor, list(axes or []), notes, seed, lhs)
+    notes = list(warnings or []) + [f"{msg} (in {c} of {n} cases)" for (_, _, _, msg), c in counts.items()]
+    flags = [{"kind": k, "code": code, "model": model, "message": msg, "cases": c}
+             for (k, code, model, msg), c in counts.items()]
+    return SweepResult(scenario, mode, cases, techs, metrics, feasible, floor, list(axes or []), notes, seed, lhs,
+                       flags)
 
 
 def display_units(scenario: Scenario, keys, axes=None) -> dict:
@@ -290,28 +286,23 @@ def display_units(scenario: Scenario, keys, axes=None) -> dict:
 
 
 def case_frame(res, offset: int, shown: dict):
-    """One chunk's rows: a pandas DataFrame with a row per (case, technology)."""
+    """One chunk's rows: a pandas DataFrame with a row per (case, technology), headline figures through the field
+    table, and each row's flags (the feed's included) as ``kind:code`` and its warnings."""
     import pandas as pd
     n = res.n_cases
     frames = []
     base = {"case": np.arange(offset, offset + n), **shown,
-            "floor_least_work_kwh_per_m3": res.floor["least_work_zero_recovery"] / J_PER_KWH}
+            "floor_least_work_kwh_per_m3": convert(res.floor.least_work_zero_recovery, "kWh/m3")}
     for t in res.technologies:
-        a = t.arrays
         cols = dict(base)
-        cols.update({
-            "technology": t.name, "feasible": t.feasible,
-            "recovery": a["recovery"], "product_salinity_g_per_kg": a["product_salinity"] * 1e3,
-            "brine_salinity_g_per_kg": a["brine_salinity"] * 1e3,
-            "electricity_kwh_per_m3": a["electricity"] / J_PER_KWH, "heat_kwh_per_m3": a["heat"] / J_PER_KWH,
-            "heat_temperature_c": a["heat_temperature"] - 273.15,
-            "work_equivalent_kwh_per_m3": a["work_equivalent"] / J_PER_KWH,
-            "least_work_kwh_per_m3": a["least_work"] / J_PER_KWH,
-            "second_law_efficiency": a["second_law_efficiency"], "power_mw": a["power"] / 1e6,
-            "emissions_kg_per_m3": a["emissions"], "levelized_cost_per_m3": a["lcow"],
-            "currency": res.scenario.currency,
-            "warnings": ["; ".join(w) for w in t.warnings],
-        })
+        cols.update({"technology": t.technology, "feasible": t.feasible})
+        for f in RECORD_FIELDS:
+            cols[f.name] = convert(getattr(t, f.attr), f.unit)
+        cols["currency"] = res.scenario.currency
+        flags = [*res.floor.flags, *t.flags]
+        masks = [f.where((n,)) for f in flags]
+        cols["flags"] = ["; ".join(f"{f.kind}:{f.code}" for f, m in zip(flags, masks) if m[i]) for i in range(n)]
+        cols["warnings"] = ["; ".join(f.message for f, m in zip(flags, masks) if m[i]) for i in range(n)]
         frames.append(pd.DataFrame(cols))
     return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame(base)
 
@@ -408,7 +399,8 @@ def payload(sr: SweepResult) -> dict:
     """The JSON summary of DESIGN's contract."""
     from .present import CAUTION
     body = {"scenario": sr.scenario.name, "cases": sr.n, "mode": sr.mode, "varied": list(sr.cases),
-            "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "notice": CAUTION}
+            "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "flags": sr.flags,
+            "notice": CAUTION}
     if sr.mode == "grid":
         body["grid"] = [{"key": a.key, "unit": a.unit, "values": a.display.tolist()} for a in sr.axes]
     else:

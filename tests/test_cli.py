@@ -53,7 +53,8 @@ def test_out_of_range_warning_in_every_format(capsys, fmt):
 def test_strict_refuses_out_of_range(capsys):
     code, out, err = run(capsys, "floor", "--salinity", "70 g/kg", "--temperature", "25 degC", "--strict")
     assert code == 2 and out == ""
-    assert err.startswith("error: --strict: brine salinity 140 g/kg") and err.count("\n") == 1
+    assert err.startswith("error: --strict: out_of_range brine_salinity (teos10): brine salinity 140 g/kg")
+    assert err.count("\n") == 1
 
 
 @pytest.mark.parametrize("argv,pattern", [

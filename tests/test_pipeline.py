@@ -10,8 +10,18 @@ from hypothesis import strategies as st
 
 from compare import accounting as acc
 from compare.cli import main
-from compare.pipeline import RECORD_FIELDS, evaluate
+from compare.pipeline import evaluate
 from compare.scenario import resolve
+from compare.present.records import records
+
+#: the contract's record fields (DESIGN, "Output record")
+RECORD_FIELDS = (
+    "technology", "feasible", "recovery", "product_salinity_g_per_kg", "brine_salinity_g_per_kg",
+    "electricity_kwh_per_m3", "heat_kwh_per_m3", "heat_temperature_c", "work_equivalent_kwh_per_m3",
+    "least_work_kwh_per_m3", "second_law_efficiency", "power_mw", "heat_mw", "annual_electricity_gwh",
+    "annual_heat_gwh", "emissions_kg_per_m3", "annual_emissions_t", "levelized_cost_per_m3", "currency", "warnings",
+    "details", "flags",
+)
 
 BASE = {
     "name": "Test Bay (fictional)",
@@ -50,8 +60,10 @@ def test_table_layout_regression(toy, tmp_path, capsys):
     assert main(["compare", str(path), "--format", "markdown", "--no-save"]) == 0
     out = capsys.readouterr().out
     headings = [line for line in out.splitlines() if line.startswith("## ")]
-    assert headings == ["## Floor", "## Energy", "## Site totals", "## Cost", "## Emissions", "## Design figures"]
-    assert "| electricity [kWh/m3] |" in out and "| levelised cost [USD/m3] |" in out
+    assert headings == ["## Floor", "## Energy", "## Site totals", "## Emissions", "## Cost",
+                        "## Toy: design figures"]
+    assert "| electricity [kWh/m3] |" in out and "| levelized cost of water [USD/m3] |" in out
+    assert "| toy figure [bar] |" in out
     assert "Screening estimate only" in out
 
 
@@ -63,7 +75,7 @@ def test_properties_over_random_scenarios(toy, S, t, r, e, q, th, cap, av):
                  site={"capacity": f"{cap} m^3/day", "availability": av},
                  toy={"recovery": r, "electricity": f"{e} kWh/m^3", "heat": f"{q} kWh/m^3",
                       "heat_temperature": f"{th} degC"})
-    rec = evaluate(s).records()[0]
+    rec = records(evaluate(s))[0]
     assert rec["second_law_efficiency"] < 1
     assert rec["work_equivalent_kwh_per_m3"] >= rec["least_work_kwh_per_m3"]
     production = cap * av * 365.0                       # m^3/year
@@ -85,7 +97,7 @@ def test_levelised_cost_worked_through(toy):
     # A worked example done by hand (our own arithmetic, independent of the code path): 20,000 m3/day, availability
     # 0.95, 1000 USD per m3/day, fixed O&M 3 %/yr, 7 %, 25 years, electricity 0.08 USD/kWh.
     s = scenario(toy={"electricity": "1.8 kWh/m^3", "efficiency": 1.0})
-    rec = evaluate(s).records()[0]
+    rec = records(evaluate(s))[0]
     capital = 1000 * 20000
     production = 20000 * 0.95 * 365
     crf = 0.07 * 1.07 ** 25 / (1.07 ** 25 - 1)
@@ -95,7 +107,7 @@ def test_levelised_cost_worked_through(toy):
 
 
 def test_exergy_and_lost_work():
-    # library: Carnot factor at T0 = 25 degC for 70 degC heat, 0.1311 (CHECKS.md).
+    # library: Carnot factor at T0 = 25 degC for 70 degC heat, 0.1311.
     assert acc.exergy_factor(343.15, 298.15) == pytest.approx(0.1311, abs=1e-4)
     # lost work of extracting saturated steam at 120 degC against a 40 degC condenser, eta = 1, from steam tables
     # (library: iapws, IAPWS-97): isentropic expansion of the vapour to the condenser, less the exergy of the
@@ -115,16 +127,23 @@ def test_exergy_and_lost_work():
 
 def test_site_heat_too_cold_is_infeasible(toy):
     s = scenario(toy={"heat": "10 kWh/m^3", "heat_temperature": "90 degC"}, energy={"heat_temperature": "80 degC"})
-    rec = evaluate(s).records()[0]
+    rec = records(evaluate(s))[0]
     assert rec["feasible"] is False
-    assert any("needs heat hotter than the site supplies" in w for w in rec["warnings"])
+    assert any(f["kind"] == "infeasible" and f["code"] == "heat_temperature" for f in rec["flags"])
+    # every figure that needs a working design is null
+    for k in ("electricity_kwh_per_m3", "heat_kwh_per_m3", "work_equivalent_kwh_per_m3", "second_law_efficiency",
+              "power_mw", "heat_mw", "annual_electricity_gwh", "annual_heat_gwh", "emissions_kg_per_m3",
+              "annual_emissions_t", "levelized_cost_per_m3"):
+        assert rec[k] is None, k
+    assert all(v is None for v in rec["details"]["cost_breakdown_per_m3"].values())
+    assert rec["least_work_kwh_per_m3"] is not None and rec["recovery"] is not None
 
 
 def test_unit_round_trip(toy):
     # the same site in MGD and degF as in m^3/day and degC
     a = scenario(site={"capacity": "10 MGD"}, feed={"temperature": "77 degF"})
     b = scenario(site={"capacity": f"{10 * 3785.411784} m^3/day"}, feed={"temperature": "25 degC"})
-    ra, rb = evaluate(a).records()[0], evaluate(b).records()[0]
+    ra, rb = records(evaluate(a))[0], records(evaluate(b))[0]
     for k in ("electricity_kwh_per_m3", "power_mw", "annual_electricity_gwh", "levelized_cost_per_m3",
               "least_work_kwh_per_m3"):
         assert ra[k] == pytest.approx(rb[k], rel=1e-9)
@@ -133,9 +152,9 @@ def test_unit_round_trip(toy):
 def test_monthly_temperatures_weight_the_year(toy):
     temps = [f"{t} degC" for t in (20, 20, 21, 23, 25, 27, 29, 30, 28, 26, 23, 21)]
     res = evaluate(scenario(feed={"temperature": temps}))
-    rec = res.records()[0]
+    rec = records(res)[0]
     w = acc.month_weights(12)
-    assert res.floor["temperature"][0] == pytest.approx(
+    assert res.floor.temperature[0] == pytest.approx(
         float(np.sum(w * (np.array([20, 20, 21, 23, 25, 27, 29, 30, 28, 26, 23, 21]) + 273.15))))
     assert math.isfinite(rec["least_work_kwh_per_m3"])
 

@@ -89,7 +89,7 @@ def test_defaults_carry_sources(tmp_path):
     path.write_text(GOOD)
     s = load(path)
     assert s.sources["site.capacity"] == "file"
-    assert s.sources["site.availability"].startswith("default (practice")
+    assert s.sources["site.availability"].startswith("default (common practice")
     assert s.values["site.capacity".split(".")[0]]["capacity"] == pytest.approx(20000 / 86400)
     assert s.values["feed"]["temperature"].tolist() == [298.15]
 
@@ -153,9 +153,8 @@ def test_ion_composition_in_mixed_units_and_simplified_model(tmp_path):
     same.write_text(base + f'ions = {{ Na = "{1.4 / rho * 1e3} g/kg", Cl = "2 g/kg" }}\n')
     a, b = load(mixed), load(same)
     assert a.values["feed"]["ions"] == pytest.approx(b.values["feed"]["ions"], rel=1e-12)
-    assert evaluate(a).floor_record()["water_activity"] == pytest.approx(
-        evaluate(b).floor_record()["water_activity"], rel=1e-12)
-    assert evaluate(a).floor_record()["model"] == "ideal"
+    assert evaluate(a).floor.water_activity[0] == pytest.approx(evaluate(b).floor.water_activity[0], rel=1e-12)
+    assert evaluate(a).floor.model == "ideal"
 
 
 def test_uncertainty_spreads_have_units(tmp_path):

@@ -10,6 +10,7 @@ from compare import sweep as sw
 from compare.cli import main
 from compare.pipeline import evaluate
 from compare.scenario import resolve
+from compare.present.records import records
 
 BASE = {
     "name": "Test Bay (fictional)",
@@ -83,7 +84,7 @@ def test_grid_equals_single_runs_at_the_same_points():
     axis = sw.parse_vary("ro.recovery=0.40:0.50:3", s)
     res = sw.run(s, sw.grid_cases([axis]), mode="grid", axes=[axis])
     for i, r in enumerate(("0.40", "0.45", "0.50")):
-        single = {rec["technology"]: rec for rec in evaluate(scenario(overrides=[f"ro.recovery={r}"])).records()}
+        single = {rec["technology"]: rec for rec in records(evaluate(scenario(overrides=[f"ro.recovery={r}"])))}
         for t in res.technologies:
             for m, (field, _) in sw.METRICS.items():
                 a, b = res.metrics[t][m][i], single[t][field]
@@ -105,7 +106,7 @@ def test_chunking_does_not_change_results(toy):
 def _second_toy():
     from compare.tech.base import Technology, register
     from tests import toytech
-    register(Technology("toy2", "a second test technology", toytech.evaluate, toytech.PARAMETERS, "tests only",
+    register(Technology("toy2", "a second test technology", toytech.evaluate, toytech.ToyParameters, "tests only",
                         "none"))
 
 

@@ -43,6 +43,8 @@ def flatten(record: dict, prefix: str = "") -> dict:
         key = f"{prefix}{k}"
         if isinstance(v, dict):
             out.update(flatten(v, key + "."))
+        elif k == "flags" and isinstance(v, (list, tuple)) and all(isinstance(x, dict) for x in v):
+            out[key] = "; ".join(f"{x.get('kind')}:{x.get('code')}" for x in v)
         elif isinstance(v, (list, tuple)):
             if all(not isinstance(x, (dict, list, tuple)) for x in v):
                 out[key] = "; ".join(str(_clean(x)) for x in v)

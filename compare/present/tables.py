@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import numpy as np
 from rich.console import Console
 from rich.markup import escape
 from rich.table import Table
@@ -11,20 +12,26 @@ from . import CAUTION
 
 
 def fmt_number(v, digits: int = 4) -> str:
-    """A number to ``digits`` significant figures; None as an em-dash."""
+    """A number for people: ``digits`` significant figures, thousands separators, whole numbers as integers, no
+    exponent for large values; None or NaN as an em-dash."""
     if v is None:
         return "—"
     if isinstance(v, bool):
         return "yes" if v else "no"
-    if isinstance(v, (int, float)):
+    if isinstance(v, int):
+        return f"{v:,}"
+    if isinstance(v, float):
         if v != v:
             return "—"
         if v == 0:
             return "0"
         a = abs(v)
-        if a >= 10 ** digits or a < 1e-3:
+        if a >= 10 ** (digits - 1):
+            return f"{v:,.0f}"
+        if a < 1e-4:
             return f"{v:.{digits - 1}e}"
-        return f"{v:.{digits}g}" if a < 1 else f"{v:,.{max(0, digits - len(str(int(a))))}f}"
+        decimals = max(0, digits - 1 - int(np.floor(np.log10(a))))
+        return f"{v:,.{decimals}f}"
     return str(v)
 
 
@@ -70,61 +77,51 @@ def _pct(v):
     return None if v is None else f"{100 * v:.1f} %"
 
 
-COMPARE_ROWS = [
-    # group, label, getter(record) -> value
-    ("energy", "feasible", lambda r: "yes" if r["feasible"] else "NO"),
-    ("energy", "recovery [-]", lambda r: r["recovery"]),
-    ("energy", "product salinity [g/kg]", lambda r: r["product_salinity_g_per_kg"]),
-    ("energy", "brine salinity [g/kg]", lambda r: r["brine_salinity_g_per_kg"]),
-    ("energy", "electricity [kWh/m3]", lambda r: r["electricity_kwh_per_m3"]),
-    ("energy", "heat [kWh_th/m3]", lambda r: r["heat_kwh_per_m3"]),
-    ("energy", "heat temperature [degC]", lambda r: r["heat_temperature_c"]),
-    ("energy", "work equivalent [kWh/m3]", lambda r: r["work_equivalent_kwh_per_m3"]),
-    ("energy", "least work, own streams [kWh/m3]", lambda r: r["least_work_kwh_per_m3"]),
-    ("energy", "second-law efficiency", lambda r: _pct(r["second_law_efficiency"])),
-    ("site totals", "power [MW]", lambda r: r["power_mw"]),
-    ("site totals", "heat [MW_th]", lambda r: r["heat_mw"]),
-    ("site totals", "electricity [GWh/yr]", lambda r: r["annual_electricity_gwh"]),
-    ("site totals", "heat [GWh_th/yr]", lambda r: r["annual_heat_gwh"]),
-    ("cost", "levelised cost [{cur}/m3]", lambda r: r["levelized_cost_per_m3"]),
-    ("cost", "  capital", lambda r: r["details"]["cost_breakdown_per_m3"]["capital"]),
-    ("cost", "  fixed O&M", lambda r: r["details"]["cost_breakdown_per_m3"]["fixed_om"]),
-    ("cost", "  electricity", lambda r: r["details"]["cost_breakdown_per_m3"]["electricity"]),
-    ("cost", "  heat", lambda r: r["details"]["cost_breakdown_per_m3"]["heat"]),
-    ("emissions", "CO2 [kg/m3]", lambda r: r["emissions_kg_per_m3"]),
-    ("emissions", "CO2 [t/yr]", lambda r: r["annual_emissions_t"]),
-]
-_SKIP_DETAILS = {"cost_breakdown_per_m3", "work_equivalent_of_heat_kwh_per_m3", "annual_production_m3"}
+def _shown(f, v):
+    return _pct(v) if f.fmt == "percent" else v
 
 
 def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
-    """(heading, columns, rows) per group of the side-by-side comparison: technologies as columns."""
+    """(heading, columns, rows) per group of the side-by-side comparison (technologies as columns), then one section
+    of design figures per technology, in words with units. Infeasible technologies show a dash for every figure
+    that needs a working design, and their reasons."""
+    from ..present.fields import COST_LINES, FLOOR_FIELDS, RECORD_FIELDS, label, unit_label
+    from ..present.records import detail_table
+    from .fields import record_name
+
     recs = payload["results"]
     cur = recs[0]["currency"] if recs else ""
     techs = [r["technology"] for r in recs]
     fl = payload["floor"]
-    sections = [("floor", ["feed", "value"], [
-        ["model", fl["model"]],
-        ["salinity [g/kg]", fl["feed_salinity_g_per_kg"]],
-        ["temperature [degC]", fl["feed_temperature_c"]],
-        ["water activity [-]", f"{fl['water_activity']:.6f}"],
-        ["osmotic pressure [bar]", fl["osmotic_pressure_bar"]],
-        ["least work, zero recovery [kWh/m3]", fl["least_work_kwh_per_m3_zero_recovery"]],
-    ])]
+    floor_rows = [["activity model", fl["model"]]]
+    for f in FLOOR_FIELDS:
+        v = fl.get(f.name)
+        floor_rows.append([label(f), f"{v:.6f}" if f.name == "water_activity" and v is not None else v])
+    sections = [("floor", ["feed", "value"], floor_rows)]
     if not recs:
         return sections
-    groups: dict[str, list[list]] = {}
-    for group, label, get in COMPARE_ROWS:
-        groups.setdefault(group, []).append([label.format(cur=cur)] + [get(r) for r in recs])
-    detail_keys: list[str] = []
-    for r in recs:
-        for k in r["details"]:
-            if k not in _SKIP_DETAILS and k not in detail_keys:
-                detail_keys.append(k)
-    groups["design figures"] = [[k] + [r["details"].get(k) for r in recs] for k in detail_keys]
+    groups: dict[str, list[list]] = {"energy": [["feasible"] + ["yes" if r["feasible"] else "NO" for r in recs]]}
+    for f in RECORD_FIELDS:
+        groups.setdefault(f.group, []).append([label(f, cur)] + [_shown(f, r[f.name]) for r in recs])
+        if f.name == "levelized_cost_per_m3":
+            for line in COST_LINES:
+                groups["cost"].append([f"  {line.label}"] + [r["details"]["cost_breakdown_per_m3"][line.name]
+                                                            for r in recs])
+    reasons = [[r["technology"], "; ".join(x["message"] for x in r.get("flags", []) if x["kind"] == "infeasible")]
+               for r in recs if not r["feasible"]]
     for g, rows in groups.items():
+        sections.append((g, [g] + techs, rows))
+    if reasons:
+        sections.append(("why infeasible", ["technology", "reason"], reasons))
+    for r in recs:
+        desc = detail_table(r["technology"])
+        rows = []
+        for key, d in desc.items():
+            name = record_name(key, d.unit)
+            if name in r["details"] and r["details"][name] is not None:
+                rows.append([unit_label(d.label, d.unit), r["details"][name]])
         if rows:
-            sections.append((g, [g] + techs, rows))
+            sections.append((f"{r['technology']}: design figures", ["figure", "value"], rows))
     return sections
 
 
@@ -132,18 +129,23 @@ def print_compare(console: Console, payload: dict) -> None:
     title = f"{payload['scenario']}"
     tables = []
     for heading, columns, rows in compare_sections(payload):
-        tables.append(rich_table(title if heading == "floor" else "", columns, rows))
+        if heading == "floor":
+            tables.append(rich_table(title, columns, rows))
+        elif columns[0] in ("figure", "technology"):
+            tables.append(rich_table(heading, columns, rows))
+        else:
+            tables.append(rich_table("", columns, rows))
     print_tables(console, tables, payload["warnings"])
 
 
 def markdown_compare(payload: dict) -> str:
-    return markdown_report(payload["scenario"], [(h.capitalize(), c, r) for h, c, r in compare_sections(payload)],
-                           payload["warnings"])
+    return markdown_report(payload["scenario"], [(h[:1].upper() + h[1:], c, r)
+                                                 for h, c, r in compare_sections(payload)], payload["warnings"])
 
 
 # ------------------------------------------------------------------------------------------------ sweeps
 SWEEP_METRICS = {"work_equivalent_kwh_per_m3": "work equivalent", "electricity_kwh_per_m3": "electricity",
-                 "heat_kwh_per_m3": "heat", "levelized_cost_per_m3": "levelised cost", "emissions_kg_per_m3": "CO2",
+                 "heat_kwh_per_m3": "heat", "levelized_cost_per_m3": "levelized cost", "emissions_kg_per_m3": "CO2",
                  "second_law_efficiency": "second-law efficiency"}
 
 

@@ -2,20 +2,21 @@
 :class:`Performance` record, and the registry that maps a name to a technology.
 
 A technology is a pure, vectorised function ``evaluate(feed, params) -> Performance``. ``feed`` holds arrays that
-broadcast to the case shape (N cases, or 12 months, or N x 12), ``params`` maps each key of the technology's scenario
-section to a float or an array of that shape (already in SI). The pipeline never branches on a technology's name:
+broadcast to the case shape (N cases, or 12 months, or N x 12), ``params`` is the technology's parameter record (a
+frozen dataclass), each field a float or an array of that shape (already in SI), a choice, or None. The pipeline never branches on a technology's name:
 it calls every registered, enabled technology the same way.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Callable, NamedTuple
+from typing import Any, Callable, NamedTuple
 
 import numpy as np
 
-from ..schema import Spec
-from ..thermo.activity import ActivityModel
+from ..flags import infeasible_mask
+from ..spec import Spec, specs_of
+from ..thermo.model import ActivityModel
 
 
 class Feed(NamedTuple):
@@ -32,7 +33,7 @@ class Feed(NamedTuple):
 
 @dataclass(frozen=True)
 class Performance:
-    """What a technology returns, per case. Energies per m^3 of product.
+    """What a technology returns, per case. Energies per m^3 of product; SI throughout.
 
     Attributes
     ----------
@@ -42,9 +43,9 @@ class Performance:
     recovery : array [-] mass recovery of the technology's own streams
     product_salinity : array [kg/kg]
     brine_salinity : array [kg/kg]
-    infeasible : dict reason -> bool array; a case is infeasible where any reason holds
-    flags : dict warning -> bool array; flagged but feasible (out of a correlation's range, target missed ...)
-    details : dict name -> array; the technology's own design figures (units in the name)
+    flags : tuple of :class:`compare.flags.Flag`; a case is infeasible where an ``infeasible`` flag holds
+    details : dict name -> array of the technology's own design figures, in SI; each name is described (label,
+        display unit) in the technology's ``details`` table of its registration
     """
 
     electricity: np.ndarray
@@ -53,29 +54,35 @@ class Performance:
     recovery: np.ndarray
     product_salinity: np.ndarray
     brine_salinity: np.ndarray
-    infeasible: dict = field(default_factory=dict)
-    flags: dict = field(default_factory=dict)
+    flags: tuple = ()
     details: dict = field(default_factory=dict)
 
     @property
     def feasible(self) -> np.ndarray:
-        shape = np.shape(self.electricity)
-        bad = np.zeros(shape, dtype=bool)
-        for mask in self.infeasible.values():
-            bad = bad | np.broadcast_to(np.asarray(mask, dtype=bool), shape)
-        return ~bad
+        return ~infeasible_mask(self.flags, np.shape(self.electricity))
+
+
+@dataclass(frozen=True)
+class Detail:
+    """How a design figure of a technology is shown: a label in words and the display unit (one of
+    :data:`compare.present.fields.UNITS`); ``count`` for whole numbers."""
+
+    label: str
+    unit: str
 
 
 @dataclass(frozen=True)
 class Technology:
-    """A registered technology: its evaluation function and its scenario section."""
+    """A registered technology: its evaluation function, its parameter record class (the scenario section's keys
+    come from its fields) and how its design figures are shown."""
 
     name: str
     title: str
-    evaluate: Callable[[Feed, dict], Performance]
-    parameters: dict[str, Spec]
+    evaluate: Callable[[Feed, Any], Performance]
+    parameters: type
     validity: str
     reference: str
+    details: dict = field(default_factory=dict)      # detail name -> Detail
 
 
 TECHNOLOGIES: dict[str, Technology] = {}
@@ -88,7 +95,7 @@ COMMON_PARAMETERS = {
 
 def register(tech: Technology) -> Technology:
     """Add a technology to the registry (a later registration of the same name replaces it)."""
-    missing = {"capital_cost", "fixed_om"} - set(tech.parameters)
+    missing = {"capital_cost", "fixed_om"} - set(specs_of(tech.parameters))
     if missing:
         raise ValueError(f"technology {tech.name} lacks parameters {sorted(missing)}")
     TECHNOLOGIES[tech.name] = tech
@@ -103,3 +110,20 @@ def take(arrays: dict, idx) -> dict:
 
 def unregister(name: str) -> None:
     TECHNOLOGIES.pop(name, None)
+
+
+def case_shape(feed: Feed, params) -> tuple:
+    """The case shape: the broadcast of the feed's arrays and every numeric parameter (sub-records included)."""
+    import dataclasses
+
+    shapes = [np.shape(feed.salinity), np.shape(feed.temperature), np.shape(feed.capacity)]
+
+    def walk(rec):
+        for f in dataclasses.fields(rec):
+            v = getattr(rec, f.name)
+            if dataclasses.is_dataclass(v):
+                walk(v)
+            elif isinstance(v, (np.ndarray, float, int)) and not isinstance(v, (bool, np.bool_)):
+                shapes.append(np.shape(v))
+    walk(params)
+    return np.broadcast_shapes(*shapes)

@@ -47,84 +47,86 @@ McGovern, R. K. and Lienhard, J. H. (2014), J. Membr. Sci. 469, 245-250 (FO with
 
 from __future__ import annotations
 
-import dataclasses
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from ..schema import Spec
+from ..spec import param, specs_of, subrecord, table
 from ..thermo import brine as _brine
 from ..thermo import water as _water
 from ..thermo.activity import get_model
 from ..thermo.constants import M_NACL, T0_C
 from ..thermo.floor import osmotic_table
 from . import ro as _ro
-from .base import Feed, Performance, Technology, register, take
+from ..flags import Flag
+from ..spec import values
+from ..thermo.model import range_flags
+from .base import Detail, Feed, Performance, Technology, case_shape, register, take
 
 LMH = 1e-3 / 3600.0
 COLD_END_APPROACH = 5.0   # [K] thermal regenerator's last condenser above the feed (practice, no source)
 
 #: RO keys that the FO regenerator takes from ``[fo.regenerator]``, with the defaults it changes
 _RO_OWN = {"recovery", "capital_cost", "fixed_om"}
+_RO_FIELDS = set(specs_of(_ro.ROParameters)) - _RO_OWN
 _RO_DEFAULTS = {
     "other_electricity": ("0 kWh/m^3", "default: the FO plant's own other_electricity covers intake and treatment"),
-    "flux": ("12 L/m^2/h", "practice: seawater-strength RO design flux (CHECKS.md)"),
+    "flux": ("12 L/m^2/h", "common practice: seawater-strength RO design flux"),
 }
 
 
-def _regenerator_specs() -> dict:
-    out = {}
-    for key, spec in _ro.PARAMETERS.items():
-        if key in _RO_OWN:
-            continue
-        if key in _RO_DEFAULTS:
-            default, source = _RO_DEFAULTS[key]
-            spec = dataclasses.replace(spec, default=default, source=source)
-        out[f"regenerator.{key}"] = dataclasses.replace(spec, source=f"RO regenerator: {spec.source}")
-    out["regenerator.gain_output_ratio"] = Spec(
-        "fraction", "8", "from memory: thermal regeneration in a multi-effect evaporator (thermal only)",
-        expect="a gain output ratio such as 8", lo=0.0, lo_open=True)
-    out["regenerator.heat_temperature"] = Spec(
-        "temperature", "75 degC", "from memory: low-temperature thermal regeneration (thermal only)",
-        expect='a temperature such as "75 degC"', lo=T0_C + 20, hi=T0_C + 200)
-    out["regenerator.temperature_difference"] = Spec(
-        "quantity", "3 K", "practice: a few K per effect (thermal only)", "K",
-        'a temperature difference such as "3 K"', lo=0.0, lo_open=True)
-    return out
+RegeneratorParameters = subrecord(
+    __name__, "RegeneratorParameters", _ro.ROParameters, drop=_RO_OWN,
+    change={**{k: {"default": d, "source": src} for k, (d, src) in _RO_DEFAULTS.items()}},
+    extra=[
+        ("gain_output_ratio", param("fraction", "8", "from memory: thermal regeneration in a multi-effect evaporator "
+                                    "(thermal only)", expect="a gain output ratio such as 8", lo=0.0, lo_open=True)),
+        ("heat_temperature", param("temperature", "75 degC", "from memory: low-temperature thermal regeneration "
+                                   "(thermal only)", expect='a temperature such as "75 degC"', lo=T0_C + 20,
+                                   hi=T0_C + 200)),
+        ("temperature_difference", param("quantity", "3 K", "common practice: a few K per effect (thermal only)", "K",
+                                         'a temperature difference such as "3 K"', lo=0.0, lo_open=True)),
+    ], source_prefix="RO regenerator: ")
+RegeneratorParameters.__doc__ = ("Parameters of [fo.regenerator]: the RO keys (less recovery and cost) for "
+                                 "regeneration = \"ro\", and the thermal screening keys for \"thermal\".")
 
 
-PARAMETERS = {
-    "recovery": Spec("fraction", "0.35", "from memory: FO on seawater, 30-50 %", expect="a mass recovery in (0, 1)",
-                     lo=0.0, hi=1.0, lo_open=True, hi_open=True),
-    "draw": Spec("choice", "nacl", "the draw solute with an activity model (NaCl: Pitzer)", choices=("nacl",)),
-    "draw_concentration": Spec("nacl_concentration", "1.2 mol/kg", "from memory: NaCl draws 0.5-2 mol/kg",
+@dataclass(frozen=True)
+class FOParameters:
+    """Parameters of the [section] in SI; each field's metadata holds its key's spec (unit, default, source)."""
+
+    recovery: Any = param("fraction", "0.35", "from memory: FO on seawater, 30-50 %", expect="a mass recovery in (0, 1)",
+                     lo=0.0, hi=1.0, lo_open=True, hi_open=True, role="recovery")
+    draw: Any = param("choice", "nacl", "the draw solute with an activity model (NaCl: Pitzer)", choices=("nacl",))
+    draw_concentration: Any = param("nacl_concentration", "1.2 mol/kg", "from memory: NaCl draws 0.5-2 mol/kg",
                                expect='a molality such as "1.5 mol/kg" or a mass fraction such as "80 g/kg"',
-                               lo=0.0, hi=0.26, lo_open=True),
-    "draw_flow_ratio": Spec("fraction", "1.0", "from memory: counter-current FO runs near equal flows",
-                            expect="regenerated draw per kg of feed, such as 1.0", lo=0.0, lo_open=True),
-    "water_permeability": Spec("quantity", "1.5 L/m^2/h/bar", "from memory: thin-film composite FO membranes",
-                               "m/s/Pa", 'a permeability such as "1.5 L/m^2/h/bar"', lo=0.0, lo_open=True),
-    "salt_permeability": Spec("quantity", "0.1 L/m^2/h", "from memory: thin-film composite FO membranes", "m/s",
-                              'a salt permeability such as "0.1 L/m^2/h"', lo=0.0),
-    "structural_parameter": Spec("quantity", "400 um", "from memory: FO supports 300-600 um", "m",
-                                 'a length such as "400 um"', lo=0.0),
-    "draw_diffusivity": Spec("quantity", "1.5e-9 m^2/s", "from memory: NaCl in water at 25 degC, 1.5e-9 m2/s",
-                             "m^2/s", 'a diffusivity such as "1.5e-9 m^2/s"', lo=0.0, lo_open=True),
-    "mass_transfer_coefficient": Spec("quantity", "3e-5 m/s", "from memory: FO feed channels, 1-5e-5 m/s", "m/s",
-                                      'a mass transfer coefficient such as "3e-5 m/s"', lo=0.0, lo_open=True),
-    "regeneration": Spec("choice", "ro", "RO regeneration of a NaCl draw", choices=("ro", "thermal")),
-    "circulation_electricity": Spec("quantity", "0.2 kWh/m^3", "from memory: low-pressure feed and draw loops, "
-                                    "0.1-0.3 kWh/m3", "J/m^3", 'an energy per volume such as "0.2 kWh/m^3"', lo=0.0),
-    "other_electricity": Spec("quantity", "0.8 kWh/m^3", "the RO default: intake, pretreatment and post-treatment "
+                               lo=0.0, hi=0.26, lo_open=True)
+    draw_flow_ratio: Any = param("fraction", "1.0", "from memory: counter-current FO runs near equal flows",
+                            expect="regenerated draw per kg of feed, such as 1.0", lo=0.0, lo_open=True)
+    water_permeability: Any = param("quantity", "1.5 L/m^2/h/bar", "from memory: thin-film composite FO membranes",
+                               "m/s/Pa", 'a permeability such as "1.5 L/m^2/h/bar"', lo=0.0, lo_open=True)
+    salt_permeability: Any = param("quantity", "0.1 L/m^2/h", "from memory: thin-film composite FO membranes", "m/s",
+                              'a salt permeability such as "0.1 L/m^2/h"', lo=0.0)
+    structural_parameter: Any = param("quantity", "400 um", "from memory: FO supports 300-600 um", "m",
+                                 'a length such as "400 um"', lo=0.0)
+    draw_diffusivity: Any = param("quantity", "1.5e-9 m^2/s", "from memory: NaCl in water at 25 degC, 1.5e-9 m2/s",
+                             "m^2/s", 'a diffusivity such as "1.5e-9 m^2/s"', lo=0.0, lo_open=True)
+    mass_transfer_coefficient: Any = param("quantity", "3e-5 m/s", "from memory: FO feed channels, 1-5e-5 m/s", "m/s",
+                                      'a mass transfer coefficient such as "3e-5 m/s"', lo=0.0, lo_open=True)
+    regeneration: Any = param("choice", "ro", "RO regeneration of a NaCl draw", choices=("ro", "thermal"))
+    circulation_electricity: Any = param("quantity", "0.2 kWh/m^3", "from memory: low-pressure feed and draw loops, "
+                                    "0.1-0.3 kWh/m3", "J/m^3", 'an energy per volume such as "0.2 kWh/m^3"', lo=0.0)
+    other_electricity: Any = param("quantity", "0.8 kWh/m^3", "the RO default: intake, pretreatment and post-treatment "
                               "on the same assumptions", "J/m^3", 'an energy per volume such as "0.8 kWh/m^3"',
-                              lo=0.0),
-    "segments": Spec("count", "40", "numerics: permeate steps along the exchanger", expect="a number 4-400",
-                     lo=4, hi=400),
-    "capital_cost": Spec("money", "1500 USD/(m^3/day)", "from memory: FO with regeneration, above RO", "day/m^3",
-                         'a cost per capacity such as "1500 USD/(m^3/day)"', lo=0.0),
-    "fixed_om": Spec("fraction", "0.04", "practice: fixed O&M about 3-5 % of capital per year",
-                     expect='a share of capital per year such as 0.04 or "4 %"', lo=0.0, hi=1.0),
-    **_regenerator_specs(),
-}
+                              lo=0.0)
+    segments: Any = param("count", "40", "numerics: permeate steps along the exchanger", expect="a number 4-400",
+                     lo=4, hi=400)
+    capital_cost: Any = param("money", "1500 USD/(m^3/day)", "from memory: FO with regeneration, above RO", "day/m^3",
+                         'a cost per capacity such as "1500 USD/(m^3/day)"', lo=0.0)
+    fixed_om: Any = param("fraction", "0.04", "common practice: fixed O&M about 3-5 % of capital per year",
+                     expect='a share of capital per year such as 0.04 or "4 %"', lo=0.0, hi=1.0)
+    regenerator: Any = table(RegeneratorParameters)
 
 
 def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, iterations=None):
@@ -231,41 +233,34 @@ def _exchanger(S_f, T, r, S_din, m_din, A, B, S_struct, D, k, pi_D, pi_F, rho, s
     return dict(area=area, S_dout=S_dout, Js=guess, S_b=(S_f + guess) / (1 - r), margin=margin)
 
 
-def _regenerator_params(p: dict) -> dict:
-    return {key.split(".", 1)[1]: v for key, v in p.items() if key.startswith("regenerator.")}
-
-
-def evaluate(feed: Feed, p: dict) -> Performance:
+def evaluate(feed: Feed, p: FOParameters) -> Performance:
     """Forward osmosis with draw regeneration for every case (see the module notes)."""
-    arrays = [np.shape(feed.salinity), np.shape(feed.temperature), np.shape(feed.capacity)]
-    shape = np.broadcast_shapes(*arrays, *(np.shape(v) for v in p.values()
-                                           if not isinstance(v, (str, type(None), bool))))
+    shape = case_shape(feed, p)
+    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
     size = int(np.prod(shape))
     b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape).ravel().copy()  # noqa: E731
-    S_f, T, r = b(feed.salinity), b(feed.temperature), b(p["recovery"])
+    S_f, T, r = b(feed.salinity), b(feed.temperature), b(p.recovery)
     tf = _ro.temperature_factor(T)
-    A, B = b(p["water_permeability"]) * tf, b(p["salt_permeability"]) * tf
-    S_din, m_din = b(p["draw_concentration"]), b(p["draw_flow_ratio"])
+    A, B = b(p.water_permeability) * tf, b(p.salt_permeability) * tf
+    S_din, m_din = b(p.draw_concentration), b(p.draw_flow_ratio)
     draw_model = get_model("pitzer-nacl", "nacl")
     pi_D, pi_F = osmotic_table(draw_model), osmotic_table(feed.model)
     rho = _brine.density(np.zeros(size), T, feed.water)           # permeate (water) density
-    steps = int(np.max(p["segments"]))
-    ex = _exchanger(S_f, T, r, S_din, m_din, A, B, b(p["structural_parameter"]), b(p["draw_diffusivity"]),
-                    b(p["mass_transfer_coefficient"]), pi_D, pi_F, rho, steps)
+    steps = int(np.max(p.segments))
+    ex = _exchanger(S_f, T, r, S_din, m_din, A, B, b(p.structural_parameter), b(p.draw_diffusivity),
+                    b(p.mass_transfer_coefficient), pi_D, pi_F, rho, steps)
     reached = np.isfinite(ex["area"]) & (ex["margin"] > 0)
     S_dout = ex["S_dout"]
     m_dout = m_din + r
-    reg = _regenerator_params(p)
-    infeasible = {
-        "FO driving force vanishes before the recovery is reached: the draw (fo.draw_concentration) is not stronger "
-        "than the feed or brine beside it": ~reached,
-    }
-    flags = {}
-    v = draw_model.validity
-    infeasible[f"FO draw outside the validated range of model {draw_model.name} ({v.describe()})"] = \
-        ~v.salinity_ok(S_din) | ~v.temperature_ok(T)
+    reg = p.regenerator
+    flags = [Flag("infeasible", "driving_force", "draw_concentration", "fo",
+                  "FO: the driving force vanishes before the recovery is reached (the draw is not stronger than the "
+                  "feed or brine beside it)", ~reached)]
+    flags += range_flags(draw_model, S_din, T, "FO draw", "draw")
+    flags += pi_D.flags(S_din, T, "FO draw", draw_model.name)
+    flags += pi_F.flags(np.where(reached, ex["S_b"], 0.0), T, "FO brine", feed.model.name)
     details = {}
-    if p["regeneration"] == "ro":
+    if p.regeneration == "ro":
         # the diluted draw is the RO feed; recovery returns it to the draw strength (product r per m_dout)
         r_ro = r / m_dout
         # where the exchanger failed its draw-out salinity is meaningless: give the regenerator a harmless stand-in
@@ -273,65 +268,82 @@ def evaluate(feed: Feed, p: dict) -> Performance:
         reg_feed = Feed(draw_model, "nacl", np.where(reached, S_dout, S_din * 0.5), T, b(feed.product_salinity),
                         b(feed.heat_temperature), b(feed.capacity))
         # the regenerator sees FO's flattened cases: varied keys (arrays of the case shape) are flattened alike
-        reg_p = {k: (b(v) if isinstance(v, np.ndarray) else v) for k, v in reg.items()}
-        reg_p.update(recovery=r_ro, capital_cost=0.0, fixed_om=0.0)
-        perf = _ro.evaluate(reg_feed, reg_p)
-        electricity = perf.electricity + b(p["circulation_electricity"]) + b(p["other_electricity"])
+        reg_p = {k: (b(v) if isinstance(v, np.ndarray) else v) for k, v in values(reg).items()
+                 if k in _RO_FIELDS}
+        perf = _ro.evaluate(reg_feed, _ro.ROParameters(**reg_p, recovery=r_ro, capital_cost=0.0, fixed_om=0.0))
+        electricity = perf.electricity + b(p.circulation_electricity) + b(p.other_electricity)
         heat = np.zeros(size)
         heat_T = np.full(size, np.nan)
         product = perf.product_salinity
-        for text, mask in perf.infeasible.items():
-            infeasible[f"FO regenerator (RO): {text}"] = np.asarray(mask, dtype=bool).ravel()
-        for text, mask in perf.flags.items():
-            flags[f"FO regenerator (RO): {text}"] = np.asarray(mask, dtype=bool).ravel()
+        flags += [f.within("fo", "FO regenerator: ").with_mask(np.asarray(f.mask, dtype=bool).ravel())
+                  for f in perf.flags]
         d = perf.details
         details.update({
-            "regenerator_recovery": r_ro, "regenerator_feed_pressure_bar": d["feed_pressure_bar"],
-            "regenerator_ro_step_kwh_per_m3": d["ro_step_kwh_per_m3"],
-            "regenerator_membrane_area_m2": d["membrane_area_m2"],
-            "regenerator_electricity_kwh_per_m3": perf.electricity / 3.6e6,
+            "regenerator_recovery": r_ro, "regenerator_feed_pressure": d["feed_pressure"].ravel(),
+            "regenerator_ro_step": d["ro_step"].ravel(), "regenerator_membrane_area": d["membrane_area"].ravel(),
+            "regenerator_electricity": perf.electricity.ravel(),
         })
         makeup = ex["Js"] + r * product              # draw salt lost to the brine and the product, per kg/s of feed
     else:
-        gor = b(reg["gain_output_ratio"])
-        T_reg = b(reg["heat_temperature"])
+        gor = b(reg.gain_output_ratio)
+        T_reg = b(reg.heat_temperature)
         bpe = _brine.boiling_point_elevation(draw_model, S_din, T_reg)
         T_low = T + COLD_END_APPROACH                 # the cold end condenses against the feed
-        needed = T_low + gor * (bpe + b(reg["temperature_difference"]))
-        infeasible["FO thermal regenerator: regenerator.heat_temperature is too low for the effects it must drive "
-                   "(gain output ratio x (draw BPE + temperature difference) above the feed)"] = T_reg < needed
+        needed = T_low + gor * (bpe + b(reg.temperature_difference))
+        flags.append(Flag("infeasible", "regenerator_temperature", "regenerator_heat_temperature", "fo",
+                          "FO thermal regenerator: its heat temperature is too low for the effects it must drive "
+                          "(gain output ratio x (draw BPE + temperature difference) above the feed)", T_reg < needed))
         h_fg = _water.latent_heat(0.5 * (T_reg + T_low))
         heat = h_fg / gor * rho                       # J per m^3 of product
         heat_T = T_reg
-        electricity = b(p["circulation_electricity"]) + b(p["other_electricity"])
+        electricity = b(p.circulation_electricity) + b(p.other_electricity)
         product = np.zeros(size)
-        details.update({"regenerator_gor": gor, "regenerator_draw_bpe_k": bpe,
-                        "regenerator_heat_kwh_th_per_m3": heat / 3.6e6})
+        details.update({"regenerator_gor": gor, "regenerator_draw_bpe": bpe, "regenerator_heat": heat})
         makeup = ex["Js"]
     area = ex["area"] * b(feed.capacity) * rho / r     # [m^2] for the plant (area per kg/s of feed x feed flow)
     with np.errstate(invalid="ignore", divide="ignore"):
         avg_flux = r / (rho * ex["area"])
         details.update({
-            "draw_in_g_per_kg": S_din * 1e3, "draw_out_g_per_kg": S_dout * 1e3,
-            "draw_in_mol_per_kg": S_din / (M_NACL * (1 - S_din)),
-            "draw_out_mol_per_kg": S_dout / (M_NACL * (1 - S_dout)),
-            "draw_flow_ratio": m_din, "average_flux_lmh": avg_flux / LMH, "fo_membrane_area_m2": area,
-            "reverse_salt_flux_g_per_m2_h": ex["Js"] / ex["area"] * 1e3 * 3600,
-            "min_osmotic_margin_bar": ex["margin"] / 1e5,
-            "draw_makeup_kg_per_m3": makeup / r * rho,
+            "draw_in": S_din, "draw_out": S_dout,
+            "draw_in_molality": S_din / (M_NACL * (1 - S_din)),
+            "draw_out_molality": S_dout / (M_NACL * (1 - S_dout)),
+            "draw_flow_ratio": m_din, "average_flux": avg_flux, "fo_membrane_area": area,
+            "reverse_salt_flux": ex["Js"] / ex["area"],
+            "min_osmotic_margin": ex["margin"],
+            "draw_makeup": makeup / r * rho,
         })
     nan = ~reached
-    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
+    flags = [f.with_mask(rs(f.mask)) for f in flags]
     return Performance(
         electricity=rs(np.where(nan, np.nan, electricity)), heat=rs(np.where(nan, np.nan, heat)),
         heat_temperature=rs(heat_T), recovery=rs(r), product_salinity=rs(product),
-        brine_salinity=rs(ex["S_b"]),
-        infeasible={key: rs(m).astype(bool) for key, m in infeasible.items()},
-        flags={key: rs(m).astype(bool) for key, m in flags.items()},
+        brine_salinity=rs(ex["S_b"]), flags=tuple(f for f in flags if f.any()),
         details={key: rs(np.where(nan, np.nan, val)) for key, val in details.items()})
 
 
+DETAILS = {
+    "draw_in": Detail("draw salinity in (regenerated)", "g/kg"),
+    "draw_out": Detail("draw salinity out (diluted)", "g/kg"),
+    "draw_in_molality": Detail("draw molality in", "mol/kg"),
+    "draw_out_molality": Detail("draw molality out", "mol/kg"),
+    "draw_flow_ratio": Detail("regenerated draw per kg of feed", "kg/kg"),
+    "average_flux": Detail("FO average flux", "L/m2/h"),
+    "fo_membrane_area": Detail("FO membrane area", "m2"),
+    "reverse_salt_flux": Detail("reverse salt flux", "g/m2/h"),
+    "min_osmotic_margin": Detail("smallest osmotic-pressure margin along the exchanger", "bar"),
+    "draw_makeup": Detail("draw salt make-up", "kg/m3"),
+    "regenerator_recovery": Detail("regenerator recovery", "-"),
+    "regenerator_feed_pressure": Detail("regenerator feed pressure", "bar"),
+    "regenerator_ro_step": Detail("regenerator RO step electricity", "kWh/m3"),
+    "regenerator_membrane_area": Detail("regenerator membrane area", "m2"),
+    "regenerator_electricity": Detail("regenerator electricity", "kWh/m3"),
+    "regenerator_gor": Detail("thermal regenerator gain output ratio", "-"),
+    "regenerator_draw_bpe": Detail("draw boiling-point elevation in the regenerator", "K"),
+    "regenerator_heat": Detail("thermal regenerator heat", "kWh_th/m3"),
+}
+
+
 FO = register(Technology(
-    "fo", "forward osmosis (counter-current, NaCl draw) with RO or thermal draw regeneration", evaluate, PARAMETERS,
+    "fo", "forward osmosis (counter-current, NaCl draw) with RO or thermal draw regeneration", evaluate, FOParameters,
     "draw within the NaCl model's range; feed within its own model's range",
-    "McCutcheon & Elimelech 2006; Tiraferri et al. 2011; McGovern & Lienhard 2014; the RO model"))
+    "McCutcheon & Elimelech 2006; Tiraferri et al. 2011; McGovern & Lienhard 2014; the RO model", DETAILS))

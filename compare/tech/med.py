@@ -47,49 +47,59 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..schema import OPTIONAL, Spec
+import dataclasses
+from dataclasses import dataclass
+from typing import Any
+
+from ..spec import OPTIONAL, param
 from ..thermo import brine as _brine
 from ..thermo import water as _water
 from ..thermo.constants import T0_C
-from .base import Feed, Performance, Technology, register
+from ..flags import Flag
+from ..spec import values
+from ..thermo.model import range_flags
+from .base import Detail, Feed, Performance, Technology, case_shape, register
 
 PASSES = 12              # salinity fixed-point passes (converged well before)
 
-PARAMETERS = {
-    "effects": Spec("count", "8", "practice: 4-12 effects in low-temperature MED", expect="a number of effects 2-16",
-                    lo=2, hi=16),
-    "feed_arrangement": Spec("choice", "parallel", "practice: parallel/cross feed in seawater MED",
-                             choices=("parallel", "forward")),
-    "top_brine_temperature": Spec("temperature", "65 degC", "practice: 65-70 degC to limit scaling (CHECKS.md)",
-                                  expect='a temperature such as "65 degC"', lo=T0_C + 30, hi=T0_C + 130),
-    "last_brine_temperature": Spec("temperature", OPTIONAL, "the feed temperature plus last_brine_margin",
-                                   expect='a temperature such as "40 degC"', lo=T0_C + 5, hi=T0_C + 120),
-    "last_brine_margin": Spec("quantity", "10 K", "practice: last effect about 10 K above the seawater", "K",
-                              'a temperature difference such as "10 K"', lo=0.0, lo_open=True),
-    "brine_salinity": Spec("salinity", "70 g/kg", "practice: brine concentration limit about twice seawater",
-                           expect='a salinity such as "70 g/kg"', lo=0.0, lo_open=True),
-    "steam_temperature_difference": Spec("quantity", "4 K", "practice: heating steam a few K above the top brine",
-                                         "K", 'a temperature difference such as "4 K"', lo=0.0, lo_open=True),
-    "preheater_approach": Spec("quantity", "4 K", "from memory: preheater terminal difference 3-5 K", "K",
-                               'a temperature difference such as "4 K"', lo=0.0, lo_open=True),
-    "condenser_terminal_difference": Spec("quantity", "3 K", "from memory: condensing vapour 2-4 K above the "
+
+@dataclass(frozen=True)
+class MEDParameters:
+    """Parameters of the [section] in SI; each field's metadata holds its key's spec (unit, default, source)."""
+
+    effects: Any = param("count", "8", "common practice: 4-12 effects in low-temperature MED", expect="a number of effects 2-16",
+                    lo=2, hi=16)
+    feed_arrangement: Any = param("choice", "parallel", "common practice: parallel/cross feed in seawater MED",
+                             choices=("parallel", "forward"))
+    top_brine_temperature: Any = param("temperature", "65 degC", "common practice: 65-70 degC to limit scaling",
+                                  expect='a temperature such as "65 degC"', lo=T0_C + 30, hi=T0_C + 130)
+    last_brine_temperature: Any = param("temperature", OPTIONAL, "the feed temperature plus last_brine_margin",
+                                   expect='a temperature such as "40 degC"', lo=T0_C + 5, hi=T0_C + 120)
+    last_brine_margin: Any = param("quantity", "10 K", "common practice: last effect about 10 K above the seawater", "K",
+                              'a temperature difference such as "10 K"', lo=0.0, lo_open=True)
+    brine_salinity: Any = param("salinity", "70 g/kg", "common practice: brine concentration limit about twice seawater",
+                           expect='a salinity such as "70 g/kg"', lo=0.0, lo_open=True, role="brine_salinity")
+    steam_temperature_difference: Any = param("quantity", "4 K", "common practice: heating steam a few K above the top brine",
+                                         "K", 'a temperature difference such as "4 K"', lo=0.0, lo_open=True)
+    preheater_approach: Any = param("quantity", "4 K", "from memory: preheater terminal difference 3-5 K", "K",
+                               'a temperature difference such as "4 K"', lo=0.0, lo_open=True)
+    condenser_terminal_difference: Any = param("quantity", "3 K", "from memory: condensing vapour 2-4 K above the "
                                           "cooling-water outlet", "K", 'a temperature difference such as "3 K"',
-                                          lo=0.0, lo_open=True),
-    "demister_pressure_drop": Spec("quantity", "40 Pa", "from memory: demister losses of tens of Pa", "Pa",
-                                   'a pressure drop such as "40 Pa"', lo=0.0),
-    "non_equilibrium_allowance": Spec("quantity", "0.3 K", "from memory: a few tenths of a K per effect", "K",
-                                      'a temperature difference such as "0.3 K"', lo=0.0),
-    "vapor_compression": Spec("flag", False, "default: no thermal vapour compression"),
-    "motive_steam_pressure": Spec("quantity", "10 bar", "from memory: TVC motive steam 3-25 bar", "Pa",
-                                  'a pressure such as "10 bar"', lo=0.0, lo_open=True),
-    "suction_effect": Spec("count", OPTIONAL, "the last effect", expect="an effect number 1-16", lo=1, hi=16),
-    "electricity": Spec("quantity", "1.8 kWh/m^3", "practice: MED pumping 1.5-2.5 kWh/m3 (CHECKS.md)", "J/m^3",
-                        'an energy per volume such as "1.8 kWh/m^3"', lo=0.0),
-    "capital_cost": Spec("money", "1800 USD/(m^3/day)", "from memory: MED plants, about 1500-2500 USD per m3/day",
-                         "day/m^3", 'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0),
-    "fixed_om": Spec("fraction", "0.035", "practice: fixed O&M about 3-4 % of capital per year",
-                     expect='a share of capital per year such as 0.035 or "3.5 %"', lo=0.0, hi=1.0),
-}
+                                          lo=0.0, lo_open=True)
+    demister_pressure_drop: Any = param("quantity", "40 Pa", "from memory: demister losses of tens of Pa", "Pa",
+                                   'a pressure drop such as "40 Pa"', lo=0.0)
+    non_equilibrium_allowance: Any = param("quantity", "0.3 K", "from memory: a few tenths of a K per effect", "K",
+                                      'a temperature difference such as "0.3 K"', lo=0.0)
+    vapor_compression: Any = param("flag", False, "default: no thermal vapour compression")
+    motive_steam_pressure: Any = param("quantity", "10 bar", "from memory: TVC motive steam 3-25 bar", "Pa",
+                                  'a pressure such as "10 bar"', lo=0.0, lo_open=True)
+    suction_effect: Any = param("count", OPTIONAL, "the last effect", expect="an effect number 1-16", lo=1, hi=16)
+    electricity: Any = param("quantity", "1.8 kWh/m^3", "common practice: MED pumping 1.5-2.5 kWh/m3", "J/m^3",
+                        'an energy per volume such as "1.8 kWh/m^3"', lo=0.0)
+    capital_cost: Any = param("money", "1800 USD/(m^3/day)", "from memory: MED plants, about 1500-2500 USD per m3/day",
+                         "day/m^3", 'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0)
+    fixed_om: Any = param("fraction", "0.035", "common practice: fixed O&M about 3-4 % of capital per year",
+                     expect='a share of capital per year such as 0.035 or "3.5 %"', lo=0.0, hi=1.0)
 
 
 def u_evaporator(T):
@@ -186,16 +196,16 @@ def _group(feed, p, idx, N, k_suc, tvc, size):
     n = idx.size
     g = lambda x: np.broadcast_to(np.asarray(x, dtype=float), (size,))[idx]  # noqa: E731
     S_f, T_sw = g(feed.salinity), g(feed.temperature)
-    T1 = g(p["top_brine_temperature"])
-    T_N = g(p["last_brine_temperature"]) if p["last_brine_temperature"] is not None \
-        else T_sw + g(p["last_brine_margin"])
-    S_max = g(p["brine_salinity"])
-    dp_dem, nea = g(p["demister_pressure_drop"]), g(p["non_equilibrium_allowance"])
-    T_s = T1 + g(p["steam_temperature_difference"])
+    T1 = g(p.top_brine_temperature)
+    T_N = g(p.last_brine_temperature) if p.last_brine_temperature is not None \
+        else T_sw + g(p.last_brine_margin)
+    S_max = g(p.brine_salinity)
+    dp_dem, nea = g(p.demister_pressure_drop), g(p.non_equilibrium_allowance)
+    T_s = T1 + g(p.steam_temperature_difference)
     frac = np.linspace(0.0, 1.0, N)[:, None]
     T = T1[None, :] - (T1 - T_N)[None, :] * frac                   # (N, n) brine temperatures
     rec = 1.0 - S_f / S_max                                         # distillate per kg of evaporator feed
-    parallel = p["feed_arrangement"] != "forward"
+    parallel = p.feed_arrangement != "forward"
     # salinity profile: start from the ideal split of the recovery, then iterate
     if parallel:
         S = np.broadcast_to(S_max, (N, n)).copy()
@@ -205,7 +215,7 @@ def _group(feed, p, idx, N, k_suc, tvc, size):
     st["h_gs"], st["h_ls"] = _water.vapour_enthalpy(T_s), _water.liquid_enthalpy(T_s)
     p_s = _water.saturation_pressure(T_s)
     if tvc:
-        p_m = g(p["motive_steam_pressure"])
+        p_m = g(p.motive_steam_pressure)
         T_m = _water.saturation_temperature(np.minimum(p_m, 0.99 * 22.06e6))
         st["h_m"] = _water.vapour_enthalpy(np.minimum(T_m, 520.0))
     M = np.ones(n)
@@ -214,12 +224,12 @@ def _group(feed, p, idx, N, k_suc, tvc, size):
         bpe = _brine.boiling_point_elevation(feed.model, S_safe, T)
         p_v = _water.saturation_pressure(T - bpe)
         T_c = _water.saturation_temperature(np.maximum(p_v - dp_dem, 50.0)) - nea   # condensing, line i
-        T_cw = T_c[-1] - g(p["condenser_terminal_difference"])
+        T_cw = T_c[-1] - g(p.condenser_terminal_difference)
         # preheat levels: feed to effect N at the condenser outlet; above, approach below line i's condensing T
         T_fp = np.empty_like(T)
         T_fp[-1] = T_cw
         for i in range(N - 2, -1, -1):
-            T_fp[i] = np.maximum(T_c[i] - g(p["preheater_approach"]), T_fp[i + 1])
+            T_fp[i] = np.maximum(T_c[i] - g(p.preheater_approach), T_fp[i + 1])
         st.update(h_v=_water.vapour_enthalpy(T - bpe), h_b=_brine.enthalpy(S_safe, T),
                   h_fp=_brine.enthalpy(S_f[None, :] + 0 * T, T_fp), h_lc=_water.liquid_enthalpy(T_c),
                   h_gc=_water.vapour_enthalpy(T_c))
@@ -255,92 +265,122 @@ def _group(feed, p, idx, N, k_suc, tvc, size):
         area_c = out["Q_cond"] / (u_condenser(T_c[-1]) * _lmtd(T_c[-1], T_sw, T_cw))
     heat = M * ((st["h_m"] if tvc else st["h_gs"]) - st["h_ls"])   # per kg/s of evaporator feed
     T_heat = T_m if tvc else T_s
+    # (kind, code, quantity, message) -> mask of this group's cases
     bad = {
-        "an MED effect has no temperature difference left for heat transfer (losses and boiling-point elevation "
-        "exceed the step between effects)": np.any(dT_eff <= 0.05, axis=0),
-        "MED last effect too close to the seawater temperature to run the condenser": T_cw <= T_sw + 0.5,
-        "MED brine salinity limit (med.brine_salinity) not above the feed salinity": S_max <= S_f,
-        "MED last brine temperature not below the top brine temperature": T_N >= T1,
-        "MED condenser's seawater flow is less than the evaporator feed it must supply": M_cw < 1.0,
-        "MED balances gave a negative flow (the temperature range cannot carry this many effects)":
+        ("infeasible", "temperature_step", "temperature_step",
+         "MED: an effect has no temperature difference left for heat transfer (losses and boiling-point elevation "
+         "exceed the step between effects)"): np.any(dT_eff <= 0.05, axis=0),
+        ("infeasible", "condenser", "last_brine_temperature",
+         "MED: the last effect is too close to the seawater temperature to run the condenser"): T_cw <= T_sw + 0.5,
+        ("infeasible", "brine_limit", "brine_salinity",
+         "MED: the brine salinity limit is not above the feed salinity"): S_max <= S_f,
+        ("infeasible", "temperature_range", "last_brine_temperature",
+         "MED: the last brine temperature is not below the top brine temperature"): T_N >= T1,
+        ("infeasible", "cooling_water", "cooling_water",
+         "MED: the condenser's seawater flow is less than the evaporator feed it must supply"): M_cw < 1.0,
+        ("infeasible", "negative_flow", "effects",
+         "MED: the balances gave a negative flow (the temperature range cannot carry this many effects)"):
             np.any(out["V"] <= 0, axis=0) | np.any(out["B"] <= 0, axis=0) | (M <= 0),
-    }
-    flags = {
-        "MED top brine temperature above 70 degC (scaling risk; common practice keeps it at 65-70 degC)":
+        ("note", "top_brine_temperature", "top_brine_temperature",
+         "MED: top brine temperature above 70 degC (scaling risk; common practice keeps it at 65-70 degC)"):
             T1 > T0_C + 70.0 + 1e-9,
     }
     if tvc:
-        bad["MED motive steam not above the heating steam (med.motive_steam_pressure)"] = p_m <= p_s
-        flags["MED ejector outside the entrainment-ratio correlation's range (compression ratio >= 1.81, Ra <= 4, "
-              "motive steam 1-35 bar)"] = ~ra_ok
-    v = feed.model.validity
-    flags[f"MED brine outside the validated range of model {feed.model.name} ({v.describe()})"] = (
-        ~v.salinity_ok(np.clip(S[-1], 0, None)) | ~v.temperature_ok(T1))
+        bad[("infeasible", "motive_steam", "motive_steam_pressure",
+             "MED: the motive steam is not above the heating steam")] = p_m <= p_s
+        bad[("out_of_range", "ejector", "entrainment_ratio",
+             "MED: the ejector is outside the entrainment-ratio correlation's range (compression ratio >= 1.81, "
+             "Ra <= 4, motive steam 1-35 bar); extrapolated")] = ~ra_ok
+        bad[("out_of_range", "steam_table", "motive_steam_temperature",
+             "MED: the motive steam is outside the water and steam tables; its enthalpy is taken at the table's "
+             "edge")] = ~_water.in_table(T_m)
+    flags = {}
     return dict(D=D, M=M, heat=heat, T_heat=T_heat, S_b=S[-1], T_b=T[-1], T_d=T_c[-1], M_cw=M_cw, T_cw=T_cw,
                 area=area_e.sum(axis=0) + area_ph + area_c, T_s=T_s, rec=rec, bpe_last=bpe[-1],
-                step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, flags=flags)
+                step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, T1=T1)
 
 
-def evaluate(feed: Feed, p: dict) -> Performance:
+def evaluate(feed: Feed, p: MEDParameters) -> Performance:
     """Multi-effect distillation for every case (see the module notes)."""
-    arrays = [np.shape(feed.salinity), np.shape(feed.temperature)]
-    shape = np.broadcast_shapes(*arrays, *(np.shape(v) for v in p.values() if not isinstance(v, (str, type(None)))))
+    shape = case_shape(feed, p)
     size = int(np.prod(shape))
     full = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape).ravel()  # noqa: E731
-    N_all = full(p["effects"]).astype(int)
-    tvc = bool(np.any(p["vapor_compression"]))
-    pp = {key: (full(v) if isinstance(v, (np.ndarray, float, int)) and not isinstance(v, bool) else v)
-          for key, v in p.items()}
-    pp["vapor_compression"] = tvc
+    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
+    N_all = full(p.effects).astype(int)
+    tvc = bool(np.any(p.vapor_compression))
+    pp = dataclasses.replace(p, vapor_compression=tvc, **{
+        key: full(v) for key, v in values(p).items()
+        if isinstance(v, (np.ndarray, float, int)) and not isinstance(v, (bool, np.bool_))})
     fd = Feed(feed.model, feed.water, full(feed.salinity), full(feed.temperature), full(feed.product_salinity),
               full(feed.heat_temperature), full(feed.capacity))
     keys = ("D", "M", "heat", "T_heat", "S_b", "T_b", "T_d", "M_cw", "T_cw", "area", "T_s", "rec", "bpe_last",
-            "step", "E", "Ra")
+            "step", "E", "Ra", "T1")
     res = {key: np.full(size, np.nan) for key in keys}
-    bad, flags = {}, {}
+    masks = {}
     # the ejector draws from suction_effect (default and at most: the last effect)
-    suc_all = N_all if p["suction_effect"] is None else np.minimum(full(p["suction_effect"]).astype(int), N_all)
+    suc_all = N_all if p.suction_effect is None else np.minimum(full(p.suction_effect).astype(int), N_all)
     # one group per (effect count, suction effect): at most a few dozen, never a loop over cases
     for N, suc in np.unique(np.stack([N_all, suc_all if tvc else N_all], axis=1), axis=0):
         idx = np.flatnonzero((N_all == N) & ((suc_all if tvc else N_all) == suc))
         out = _group(fd, pp, idx, int(N), int(suc) - 1, tvc, size)
         for key in keys:
             res[key][idx] = out[key]
-        for dest, src in ((bad, out["bad"]), (flags, out["flags"])):
-            for text, mask in src.items():
-                dest.setdefault(text, np.zeros(size, dtype=bool))[idx] = mask
+        for key, mask in out["bad"].items():
+            masks.setdefault(key, np.zeros(size, dtype=bool))[idx] = mask
+    flags = [Flag(kind, code, quantity, "med", message, rs(m)) for (kind, code, quantity, message), m in masks.items()]
+    if feed.water != "seawater":
+        flags.append(Flag("note", "brine_enthalpy", "brine_enthalpy", "teos10",
+                          "MED: brine enthalpy taken from TEOS-10 seawater at the same salinity (the feed is not "
+                          "seawater)", True))
+    # the hottest brine (the first effect) against the activity model; the last effect's brine is the saltiest
+    flags += [f.with_mask(rs(f.mask)) for f in range_flags(feed.model, np.nan_to_num(res["S_b"]), res["T1"],
+                                                           "MED brine", "brine")]
+    flags = [f for f in flags if f.any()]
     rho_d = _brine.density(np.zeros(size), res["T_d"], "seawater")
     per_m3 = rho_d / res["D"]                         # kg/s of evaporator feed per (m^3/s of distillate)
     heat = res["heat"] * per_m3                       # J per m^3 of distillate
     gor = res["D"] / res["M"]
-    elec = full(p["electricity"])
-    if feed.water != "seawater":
-        flags["MED brine enthalpy taken from TEOS-10 seawater at the same salinity (the feed is not seawater)"] = \
-            np.ones(size, dtype=bool)
-    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
+    elec = full(p.electricity)
     details = {
-        "gor": gor, "heating_steam_temperature_c": res["T_s"] - T0_C,
-        "heat_supply_temperature_c": res["T_heat"] - T0_C,
-        "top_brine_temperature_c": full(p["top_brine_temperature"]) - T0_C,
-        "last_brine_temperature_c": res["T_b"] - T0_C, "temperature_step_k": res["step"],
-        "last_effect_bpe_k": res["bpe_last"], "brine_salinity_g_per_kg": res["S_b"] * 1e3,
-        "evaporator_recovery": res["rec"], "specific_area_m2_per_kg_s": res["area"] / res["D"],
-        "cooling_water_per_product": res["M_cw"] / res["D"], "cooling_water_outlet_c": res["T_cw"] - T0_C,
-        "product_temperature_c": res["T_d"] - T0_C, "steam_per_product": res["M"] / res["D"],
-        "heat_kwh_th_per_m3": heat / 3.6e6, "heat_kj_per_kg_product": res["heat"] / res["D"] / 1e3,
+        "gor": gor, "heating_steam_temperature": res["T_s"], "heat_supply_temperature": res["T_heat"],
+        "top_brine_temperature": full(p.top_brine_temperature), "last_brine_temperature": res["T_b"],
+        "temperature_step": res["step"], "last_effect_bpe": res["bpe_last"], "brine_salinity": res["S_b"],
+        "evaporator_recovery": res["rec"], "specific_area": res["area"] / res["D"],
+        "cooling_water_per_product": res["M_cw"] / res["D"], "cooling_water_outlet_temperature": res["T_cw"],
+        "product_temperature": res["T_d"], "steam_per_product": res["M"] / res["D"],
+        "specific_heat": res["heat"] / res["D"],
     }
     if tvc:
         details["entrainment_ratio"] = res["Ra"]
         details["entrained_vapour_per_product"] = res["E"] / res["D"]
     return Performance(
         electricity=rs(elec), heat=rs(heat), heat_temperature=rs(res["T_heat"]), recovery=rs(res["rec"]),
-        product_salinity=rs(np.zeros(size)), brine_salinity=rs(res["S_b"]),
-        infeasible={key: rs(m).astype(bool) for key, m in bad.items()},
-        flags={key: rs(m).astype(bool) for key, m in flags.items()},
+        product_salinity=rs(np.zeros(size)), brine_salinity=rs(res["S_b"]), flags=tuple(flags),
         details={key: rs(v) for key, v in details.items()})
+
+
+DETAILS = {
+    "gor": Detail("gain output ratio (distillate per kg of steam)", "-"),
+    "heating_steam_temperature": Detail("heating steam temperature", "degC"),
+    "heat_supply_temperature": Detail("heat supply temperature (steam or motive steam)", "degC"),
+    "top_brine_temperature": Detail("top brine temperature", "degC"),
+    "last_brine_temperature": Detail("last brine temperature", "degC"),
+    "temperature_step": Detail("temperature step between effects", "K"),
+    "last_effect_bpe": Detail("boiling-point elevation, last effect", "K"),
+    "brine_salinity": Detail("brine salinity", "g/kg"),
+    "evaporator_recovery": Detail("recovery of the evaporator feed", "-"),
+    "specific_area": Detail("heat-transfer area per kg/s of product", "m2/(kg/s)"),
+    "cooling_water_per_product": Detail("cooling water per kg of product", "kg/kg"),
+    "cooling_water_outlet_temperature": Detail("cooling water outlet temperature", "degC"),
+    "product_temperature": Detail("product temperature", "degC"),
+    "steam_per_product": Detail("steam per kg of product", "kg/kg"),
+    "specific_heat": Detail("heat per kg of product", "kJ/kg"),
+    "entrainment_ratio": Detail("ejector entrainment ratio (motive per entrained)", "-"),
+    "entrained_vapour_per_product": Detail("entrained vapour per kg of product", "kg/kg"),
+}
 
 
 MED = register(Technology(
     "med", "multi-effect distillation (parallel/cross or forward feed, optional thermal vapour compression)",
-    evaluate, PARAMETERS, "2-16 effects; brine within the activity model's range (TEOS-10: 120 g/kg, 80 degC)",
-    "effect balances on IAPWS-95 (CoolProp) and TEOS-10; El-Dessouky & Ettouney 2002 (U, ejector)"))
+    evaluate, MEDParameters, "2-16 effects; brine within the activity model's range (TEOS-10: 120 g/kg, 80 degC)",
+    "effect balances on IAPWS-95 (CoolProp) and TEOS-10; El-Dessouky & Ettouney 2002 (U, ejector)", DETAILS))

@@ -52,10 +52,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..schema import Spec, efficiency
+from dataclasses import dataclass
+from typing import Any
+
+from ..spec import efficiency, param
 from ..thermo import brine as _brine
 from ..thermo.floor import osmotic_table
-from .base import Feed, Performance, Technology, register, take
+from ..flags import Flag
+from .base import Detail, Feed, Performance, Technology, case_shape, register, take
 
 LMH = 1e-3 / 3600.0            # 1 L/(m^2 h) in m/s
 BAR = 1e5
@@ -63,49 +67,52 @@ TEMPERATURE_EXPONENT = 2640.0  # [K], membrane temperature correction (from memo
 P_SEARCH_MAX = 400e5           # [Pa] upper end of the feed-pressure search
 S_CAP = 0.34                   # [kg/kg] wall salinities are capped here (inside the osmotic table) during the search
 
-PARAMETERS = {
-    "recovery": Spec("fraction", "0.45", "practice: seawater RO, 40-50 %", expect="a mass recovery in (0, 1)",
-                     lo=0.0, hi=1.0, lo_open=True, hi_open=True),
-    "stages": Spec("count", "1", "practice: one stage for seawater, two or three for brackish water",
-                   expect="a number of stages 1, 2 or 3", lo=1, hi=3),
-    "flux": Spec("quantity", "14 L/m^2/h", "practice: seawater design flux 12-15 L/m2/h (CHECKS.md)", "m/s",
-                 'an average flux such as "14 L/m^2/h"', lo=0.0, lo_open=True),
-    "water_permeability": Spec("quantity", "1.0 L/m^2/h/bar", "from memory: seawater elements, about 1 L/m2/h/bar "
+
+@dataclass(frozen=True)
+class ROParameters:
+    """Parameters of the [section] in SI; each field's metadata holds its key's spec (unit, default, source)."""
+
+    recovery: Any = param("fraction", "0.45", "common practice: seawater RO, 40-50 %", expect="a mass recovery in (0, 1)",
+                     lo=0.0, hi=1.0, lo_open=True, hi_open=True, role="recovery")
+    stages: Any = param("count", "1", "common practice: one stage for seawater, two or three for brackish water",
+                   expect="a number of stages 1, 2 or 3", lo=1, hi=3)
+    flux: Any = param("quantity", "14 L/m^2/h", "common practice: seawater design flux 12-15 L/m2/h", "m/s",
+                 'an average flux such as "14 L/m^2/h"', lo=0.0, lo_open=True)
+    water_permeability: Any = param("quantity", "1.0 L/m^2/h/bar", "from memory: seawater elements, about 1 L/m2/h/bar "
                                "at 25 degC", "m/s/Pa", 'a permeability such as "1.0 L/m^2/h/bar"', lo=0.0,
-                               lo_open=True),
-    "salt_permeability": Spec("quantity", "0.03 L/m^2/h", "from memory: about 99.8 % rejection at design flux",
-                              "m/s", 'a salt permeability such as "0.03 L/m^2/h"', lo=0.0),
-    "mass_transfer_coefficient": Spec("quantity", "2e-5 m/s", "from memory: spiral-wound feed channels, 1-4e-5 m/s",
-                                      "m/s", 'a mass transfer coefficient such as "2e-5 m/s"', lo=0.0, lo_open=True),
-    "elements_per_vessel": Spec("count", "7", "practice: 6-8 elements per vessel",
-                                expect="a number of elements 1-8", lo=1, hi=8),
-    "element_area": Spec("quantity", "37 m^2", "practice: 8-inch element, 400 ft2", "m^2",
-                         'an element area such as "37 m^2"', lo=0.0, lo_open=True),
-    "pressure_drop_per_element": Spec("quantity", "0.3 bar", "from memory: 0.2-0.4 bar per element", "Pa",
-                                      'a pressure drop such as "0.3 bar"', lo=0.0),
-    "max_pressure": Spec("quantity", "82.7 bar", "practice: standard seawater element limit (CHECKS.md)", "Pa",
-                         'a pressure such as "82.7 bar"', lo=0.0, lo_open=True),
-    "max_lead_flux": Spec("quantity", "35 L/m^2/h", "from memory: a common limit on the lead element's average flux",
-                          "m/s", 'a flux such as "35 L/m^2/h"', lo=0.0, lo_open=True),
-    "booster_pressure": Spec("quantity", "0 bar", "default: no interstage booster", "Pa",
-                             'a pressure such as "5 bar"', lo=0.0),
-    "pump_efficiency": efficiency("0.85", "practice: high-pressure pump 80-88 % (CHECKS.md)"),
-    "motor_efficiency": efficiency("0.95", "practice: large induction motor"),
-    "energy_recovery": Spec("choice", "isobaric", "practice: isobaric exchangers in seawater RO",
-                            choices=("isobaric", "turbine", "none")),
-    "energy_recovery_efficiency": efficiency("0.96", "practice: isobaric exchanger 94-98 % (CHECKS.md)"),
-    "energy_recovery_mixing": Spec("fraction", "0.03", "from memory: isobaric exchanger volumetric mixing, 2-6 %",
-                                   expect="a mixing fraction in [0, 0.5)", lo=0.0, hi=0.5, hi_open=True),
-    "other_electricity": Spec("quantity", "0.8 kWh/m^3", "practice: intake, pretreatment and post-treatment of a "
-                              "seawater plant (whole plant 3-4 kWh/m3, CHECKS.md)", "J/m^3",
-                              'an energy per volume such as "0.8 kWh/m^3"', lo=0.0),
-    "segments": Spec("count", "20", "numerics: permeate steps per stage (0.1 % convergence, tested)",
-                     expect="a number of segments 4-400", lo=4, hi=400),
-    "capital_cost": Spec("money", "1200 USD/(m^3/day)", "from memory: seawater RO plants, about 1000-1500 USD per "
-                         "m3/day", "day/m^3", 'a cost per capacity such as "1200 USD/(m^3/day)"', lo=0.0),
-    "fixed_om": Spec("fraction", "0.03", "practice: fixed O&M about 2-4 % of capital per year",
-                     expect='a share of capital per year such as 0.03 or "3 %"', lo=0.0, hi=1.0),
-}
+                               lo_open=True)
+    salt_permeability: Any = param("quantity", "0.03 L/m^2/h", "from memory: about 99.8 % rejection at design flux",
+                              "m/s", 'a salt permeability such as "0.03 L/m^2/h"', lo=0.0)
+    mass_transfer_coefficient: Any = param("quantity", "2e-5 m/s", "from memory: spiral-wound feed channels, 1-4e-5 m/s",
+                                      "m/s", 'a mass transfer coefficient such as "2e-5 m/s"', lo=0.0, lo_open=True)
+    elements_per_vessel: Any = param("count", "7", "common practice: 6-8 elements per vessel",
+                                expect="a number of elements 1-8", lo=1, hi=8)
+    element_area: Any = param("quantity", "37 m^2", "common practice: 8-inch element, 400 ft2", "m^2",
+                         'an element area such as "37 m^2"', lo=0.0, lo_open=True)
+    pressure_drop_per_element: Any = param("quantity", "0.3 bar", "from memory: 0.2-0.4 bar per element", "Pa",
+                                      'a pressure drop such as "0.3 bar"', lo=0.0)
+    max_pressure: Any = param("quantity", "82.7 bar", "common practice: standard seawater element limit", "Pa",
+                         'a pressure such as "82.7 bar"', lo=0.0, lo_open=True)
+    max_lead_flux: Any = param("quantity", "35 L/m^2/h", "from memory: a common limit on the lead element's average flux",
+                          "m/s", 'a flux such as "35 L/m^2/h"', lo=0.0, lo_open=True)
+    booster_pressure: Any = param("quantity", "0 bar", "default: no interstage booster", "Pa",
+                             'a pressure such as "5 bar"', lo=0.0)
+    pump_efficiency: Any = efficiency("0.85", "common practice: high-pressure pump 80-88 %")
+    motor_efficiency: Any = efficiency("0.95", "common practice: large induction motor")
+    energy_recovery: Any = param("choice", "isobaric", "common practice: isobaric exchangers in seawater RO",
+                            choices=("isobaric", "turbine", "none"))
+    energy_recovery_efficiency: Any = efficiency("0.96", "common practice: isobaric exchanger 94-98 %")
+    energy_recovery_mixing: Any = param("fraction", "0.03", "from memory: isobaric exchanger volumetric mixing, 2-6 %",
+                                   expect="a mixing fraction in [0, 0.5)", lo=0.0, hi=0.5, hi_open=True)
+    other_electricity: Any = param("quantity", "0.8 kWh/m^3", "common practice: intake, pretreatment and post-treatment of a "
+                              "seawater plant (whole plant 3-4 kWh/m3)", "J/m^3",
+                              'an energy per volume such as "0.8 kWh/m^3"', lo=0.0)
+    segments: Any = param("count", "20", "numerics: permeate steps per stage (0.1 % convergence, tested)",
+                     expect="a number of segments 4-400", lo=4, hi=400)
+    capital_cost: Any = param("money", "1200 USD/(m^3/day)", "from memory: seawater RO plants, about 1000-1500 USD per "
+                         "m3/day", "day/m^3", 'a cost per capacity such as "1200 USD/(m^3/day)"', lo=0.0)
+    fixed_om: Any = param("fraction", "0.03", "common practice: fixed O&M about 2-4 % of capital per year",
+                     expect='a share of capital per year such as 0.03 or "3 %"', lo=0.0, hi=1.0)
 
 #: share of the membrane area in each stage (the usual tapered arrays)
 STAGE_SHARES = {1: (1.0,), 2: (2 / 3, 1 / 3), 3: (4 / 7, 2 / 7, 1 / 7)}
@@ -287,22 +294,22 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
     return P, reachable
 
 
-def evaluate(feed: Feed, p: dict) -> Performance:
+def evaluate(feed: Feed, p: ROParameters) -> Performance:
     """Reverse osmosis in design mode for every case (see the module notes)."""
-    arrays = [np.shape(feed.salinity), np.shape(feed.temperature), np.shape(feed.capacity)]
-    shape = np.broadcast_shapes(*arrays, *(np.shape(v) for v in p.values() if not isinstance(v, str)))
+    shape = case_shape(feed, p)
+    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
     b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape).ravel().copy()  # noqa: E731
-    stages = b(p["stages"]).astype(int)
-    n_seg = int(np.max(p["segments"]))
-    erd = p["energy_recovery"]
+    stages = b(p.stages).astype(int)
+    n_seg = int(np.max(p.segments))
+    erd = p.energy_recovery
     S_f, T = b(feed.salinity), b(feed.temperature)
-    r = b(p["recovery"])
+    r = b(p.recovery)
     tf = temperature_factor(T)
-    mix = b(p["energy_recovery_mixing"]) if erd == "isobaric" else np.zeros_like(S_f)
+    mix = b(p.energy_recovery_mixing) if erd == "isobaric" else np.zeros_like(S_f)
     rho_p = _brine.density(np.zeros_like(S_f), T, feed.water)
-    c = dict(T=T, A=b(p["water_permeability"]) * tf, B=b(p["salt_permeability"]) * tf,
-             k=b(p["mass_transfer_coefficient"]), J_avg=b(p["flux"]), n_elem=b(p["elements_per_vessel"]),
-             dp_elem=b(p["pressure_drop_per_element"]), boost=b(p["booster_pressure"]), r=r, v_p=1.0 / rho_p,
+    c = dict(T=T, A=b(p.water_permeability) * tf, B=b(p.salt_permeability) * tf,
+             k=b(p.mass_transfer_coefficient), J_avg=b(p.flux), n_elem=b(p.elements_per_vessel),
+             dp_elem=b(p.pressure_drop_per_element), boost=b(p.booster_pressure), r=r, v_p=1.0 / rho_p,
              S_in=S_f * (1 - mix * (1 - r)) / (1 - mix), pi=osmotic_table(feed.model))
     c["area_per_feed"] = r * c["v_p"] / c["J_avg"]        # design area [m^2 per kg/s of membrane feed]
     n = S_f.size
@@ -321,7 +328,7 @@ def evaluate(feed: Feed, p: dict) -> Performance:
             prof[key][idx] = out[key]
         st_perm[:ns, idx], st_salt[:ns, idx] = out["st_perm"], out["st_salt"]
         # at the pressure limit, does the driving force vanish before the end? (thermodynamic restriction)
-        P_max = b(p["max_pressure"])[idx]
+        P_max = b(p.max_pressure)[idx]
         over = np.flatnonzero(ok & (Pi > P_max))
         if over.size:
             thermo_limit[idx[over]] = ~np.isfinite(_march(P_max[over], take(ci, over), shares, n_seg))
@@ -333,9 +340,9 @@ def evaluate(feed: Feed, p: dict) -> Performance:
     S_b_out = (S_f - r * S_p) / (1 - r)
 
     # energy per kg of permeate [J/kg], from gauge pressures and specific volumes
-    eta_p, eta_m = b(p["pump_efficiency"]), b(p["motor_efficiency"])
+    eta_p, eta_m = b(p.pump_efficiency), b(p.motor_efficiency)
     eta = eta_p * eta_m
-    eta_e = b(p["energy_recovery_efficiency"])
+    eta_e = b(p.energy_recovery_efficiency)
     v_f = 1.0 / _brine.density(c["S_in"], T, feed.water)
     v_b = 1.0 / _brine.density(np.minimum(S_bm, S_CAP), T, feed.water)
     q_b, q_f = (1 - r) / r, 1.0 / r               # brine and membrane feed mass per kg of permeate
@@ -359,48 +366,75 @@ def evaluate(feed: Feed, p: dict) -> Performance:
         conc = conc - st_perm[s - 1] / r
         inter = inter + np.where(stages > s, boost * conc * v_f / eta, 0.0)
     e_ro = (hp + booster + inter) * rho_p                     # [J/m^3 of permeate]
-    other = b(p["other_electricity"])
+    other = b(p.other_electricity)
     electricity = e_ro + other
     area = b(feed.capacity) / c["J_avg"]
-    elements = np.ceil(area / b(p["element_area"]) - 1e-9)
+    elements = np.ceil(area / b(p.element_area) - 1e-9)
     vessels = np.ceil(elements / c["n_elem"] - 1e-9)
-    v = feed.model.validity
-    infeasible = {
-        "feed pressure needed is above ro.max_pressure": reachable & (P > b(p["max_pressure"])) & ~thermo_limit,
-        "net driving pressure falls to zero before the end of the vessel even at ro.max_pressure (the concentrate's "
-        "osmotic pressure; thermodynamic restriction)": thermo_limit,
-        "lead-element flux above ro.max_lead_flux": reachable & (prof["lead"] > b(p["max_lead_flux"])),
-        f"RO brine outside the validated range of model {feed.model.name} ({v.describe()})":
-            ~v.salinity_ok(np.where(np.isfinite(S_bm), S_bm, 1.0)) | ~v.temperature_ok(T),
-    }
-    flags = {
-        "RO design at the thermodynamic restriction: the outlet's net driving pressure is near zero and part of the "
-        "membrane area produces almost nothing (see area_used_fraction)": reachable & (prof["x"] < 1 - 1e-6),
-    }
-    rs = lambda x: np.asarray(x, dtype=float).reshape(shape)  # noqa: E731
+    table = c["pi"]
+    # outlet wall salinity at the mean flux (the full-rejection brine where no pressure reached the recovery)
+    wall = np.where(reachable & np.isfinite(S_bm), S_bm, c["S_in"] / (1 - r)) * np.exp(np.minimum(c["J_avg"] / c["k"], 30.0))
+    flags = [
+        Flag("infeasible", "max_pressure", "feed_pressure", "ro",
+             "RO: the feed pressure needed is above the element's maximum pressure",
+             rs(reachable & (P > b(p.max_pressure)) & ~thermo_limit)),
+        Flag("infeasible", "driving_force", "net_driving_pressure", "ro",
+             "RO: the net driving pressure falls to zero before the end of the vessel even at the maximum pressure "
+             "(the concentrate's osmotic pressure; thermodynamic restriction)", rs(thermo_limit)),
+        Flag("infeasible", "lead_flux", "lead_flux", "ro",
+             "RO: the lead element's flux is above its limit", rs(reachable & (prof["lead"] > b(p.max_lead_flux)))),
+        Flag("note", "at_restriction", "area_used_fraction", "ro",
+             "RO design at the thermodynamic restriction: the outlet's net driving pressure is near zero and part "
+             "of the membrane area produces almost nothing (see the area used)", rs(reachable & (prof["x"] < 1 - 1e-6))),
+    ]
+    flags += [f.with_mask(rs(f.mask)) for f in table.flags(np.nan_to_num(wall), T, "RO membrane-wall brine",
+                                                            feed.model.name)]
+    flags += [f.with_mask(rs(f.mask)) for f in _brine.density_flags(np.nan_to_num(S_bm), T, feed.water,
+                                                                     "RO brine")]
+    flags = [f for f in flags if f.any()]
     nan = ~reachable
     details = {
-        "feed_pressure_bar": P / BAR, "brine_pressure_bar": P_b / BAR,
-        "membrane_feed_salinity_g_per_kg": c["S_in"] * 1e3, "membrane_brine_salinity_g_per_kg": S_bm * 1e3,
-        "membrane_area_m2": area, "elements": elements, "vessels": vessels, "lead_flux_lmh": prof["lead"] / LMH,
-        "average_flux_lmh": c["J_avg"] / LMH, "area_used_fraction": prof["x"],
-        "ro_step_kwh_per_m3": e_ro / 3.6e6, "high_pressure_pump_kwh_per_m3": hp * rho_p / 3.6e6,
-        "booster_kwh_per_m3": (booster + inter) * rho_p / 3.6e6, "other_electricity_kwh_per_m3": other / 3.6e6,
+        "feed_pressure": P, "brine_pressure": P_b,
+        "membrane_feed_salinity": c["S_in"], "membrane_brine_salinity": S_bm,
+        "membrane_area": area, "elements": elements, "vessels": vessels, "lead_flux": prof["lead"],
+        "average_flux": c["J_avg"], "area_used_fraction": prof["x"],
+        "ro_step": e_ro, "high_pressure_pump": hp * rho_p, "booster": (booster + inter) * rho_p,
+        "other_electricity": other,
     }
-    for s in range(int(stages.max())):
+    for s in range(3):
         with np.errstate(invalid="ignore", divide="ignore"):
-            details[f"stage_{s + 1}_permeate_g_per_kg"] = np.where(stages > s, st_salt[s] / st_perm[s] * 1e3, np.nan)
+            details[f"stage_{s + 1}_permeate_salinity"] = np.where(stages > s, st_salt[s] / st_perm[s], np.nan)
             details[f"stage_{s + 1}_recovery"] = np.where(stages > s, st_perm[s], np.nan)
     details = {key: np.where(nan, np.nan, val) for key, val in details.items()}
     return Performance(
-        electricity=rs(np.where(nan, np.nan, electricity)), heat=rs(np.zeros(n)), heat_temperature=rs(np.full(n, np.nan)),
-        recovery=rs(r), product_salinity=rs(np.where(nan, np.nan, S_p)), brine_salinity=rs(np.where(nan, np.nan, S_b_out)),
-        infeasible={key: rs(m).astype(bool) for key, m in infeasible.items()},
-        flags={key: rs(m).astype(bool) for key, m in flags.items()},
+        electricity=rs(np.where(nan, np.nan, electricity)), heat=rs(np.zeros(n)),
+        heat_temperature=rs(np.full(n, np.nan)), recovery=rs(r), product_salinity=rs(np.where(nan, np.nan, S_p)),
+        brine_salinity=rs(np.where(nan, np.nan, S_b_out)), flags=tuple(flags),
         details={key: rs(val) for key, val in details.items()})
 
 
+#: how the design figures are shown (label in words, display unit)
+DETAILS = {
+    "feed_pressure": Detail("feed pressure", "bar"),
+    "brine_pressure": Detail("brine pressure at the outlet", "bar"),
+    "membrane_feed_salinity": Detail("membrane feed salinity (after the exchanger's mixing)", "g/kg"),
+    "membrane_brine_salinity": Detail("membrane brine salinity", "g/kg"),
+    "membrane_area": Detail("membrane area", "m2"),
+    "elements": Detail("elements", "count"),
+    "vessels": Detail("pressure vessels", "count"),
+    "lead_flux": Detail("lead element flux", "L/m2/h"),
+    "average_flux": Detail("average flux", "L/m2/h"),
+    "area_used_fraction": Detail("share of the area producing", "-"),
+    "ro_step": Detail("RO step electricity", "kWh/m3"),
+    "high_pressure_pump": Detail("high-pressure pump", "kWh/m3"),
+    "booster": Detail("booster pumps", "kWh/m3"),
+    "other_electricity": Detail("other plant electricity (intake, treatment)", "kWh/m3"),
+    **{f"stage_{s}_permeate_salinity": Detail(f"stage {s} permeate salinity", "g/kg") for s in (1, 2, 3)},
+    **{f"stage_{s}_recovery": Detail(f"stage {s} recovery (share of the system feed)", "-") for s in (1, 2, 3)},
+}
+
+
 RO = register(Technology(
-    "ro", "reverse osmosis (spiral-wound, solution-diffusion, design mode)", evaluate, PARAMETERS,
+    "ro", "reverse osmosis (spiral-wound, solution-diffusion, design mode)", evaluate, ROParameters,
     "feed within the activity model's range; 1-3 stages; design mode (recovery and average flux given)",
-    "Wijmans & Baker 1995; film model (Mulder 1996); Zhu, Christofides & Cohen 2009; Li 2010"))
+    "Wijmans & Baker 1995; film model (Mulder 1996); Zhu, Christofides & Cohen 2009; Li 2010", DETAILS))

@@ -31,74 +31,19 @@ Models (registry ``MODELS``):
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
 from typing import Callable
 
 import numpy as np
 from scipy.special import xlogy
 
-from ..errors import InputError
 from . import water as _water
 from .constants import E_CHARGE, EPS_0, K_B, M_NACL, M_SEA_SALT, M_W, N_A, P_ATM, R, T0_C
+from .model import ActivityModel, ModelError, Validity, range_flags, simplification_flag  # noqa: F401
 
 WATERS = ("seawater", "nacl", "ions")
 DEFAULT_MODEL = {"seawater": "teos10", "nacl": "pitzer-nacl", "ions": "phreeqc"}
 #: mean molar mass of solute particles [kg/mol] per kind of water (full dissociation for NaCl)
 PARTICLE_MOLAR_MASS = {"seawater": M_SEA_SALT, "nacl": M_NACL / 2}
-
-
-@dataclass(frozen=True)
-class Validity:
-    """The range over which a model was validated against its source."""
-
-    salinity_max: float       # [kg/kg]
-    temperature_min: float    # [K]
-    temperature_max: float    # [K]
-    note: str = ""
-
-    def salinity_ok(self, S):
-        S = np.asarray(S, dtype=float)
-        return (S >= 0) & (S <= self.salinity_max * (1 + 1e-12))
-
-    def temperature_ok(self, T):
-        T = np.asarray(T, dtype=float)
-        return (T >= self.temperature_min - 1e-9) & (T <= self.temperature_max + 1e-9)
-
-    def describe(self) -> str:
-        text = (f"0-{self.salinity_max * 1e3:.4g} g/kg, {self.temperature_min - T0_C:g}-"
-                f"{self.temperature_max - T0_C:g} degC")
-        return f"{text} ({self.note})" if self.note else text
-
-
-@dataclass(frozen=True)
-class ActivityModel:
-    """A water activity model bound to one kind of water. Functions take S [kg/kg] and T [K] arrays that broadcast."""
-
-    name: str
-    title: str
-    water: str
-    simplification: bool
-    validity: Validity
-    reference: str
-    ln_aw: Callable
-    gibbs: Callable
-    particle_molar_mass: float     # [kg/mol] mean molar mass of solute particles
-    extra: dict = field(default_factory=dict, compare=False)
-
-    def mu_w(self, S, T):
-        """Chemical potential of water relative to pure water [J/kg of water]."""
-        return R * np.asarray(T, dtype=float) * self.ln_aw(S, T) / M_W
-
-    def osmotic_coefficient(self, S, T):
-        """Practical osmotic coefficient phi = -ln a_w / (M_w m_sum), m_sum the particle molality [-]."""
-        S = np.asarray(S, dtype=float)
-        m_sum = S / ((1 - S) * self.particle_molar_mass)
-        return -self.ln_aw(S, T) / (M_W * m_sum)
-
-    def dgibbs_dS(self, S, T):
-        """dg/dS = mu_salt - mu_water [J/kg], from g and mu_w (S > 0)."""
-        S = np.asarray(S, dtype=float)
-        return (self.gibbs(S, T) - self.mu_w(S, T)) / S
 
 
 # --------------------------------------------------------------------------------------------------------- TEOS-10
@@ -341,13 +286,35 @@ def vant_hoff_gibbs(S, T, M):
 
 
 # ----------------------------------------------------------------------------------------------------- the registry
-_TEOS10 = Validity(0.120, T0_C, T0_C + 80.0, "atmospheric pressure; Feistel 2008")
-_PITZER = Validity(6.0 * M_NACL / (1 + 6.0 * M_NACL), T0_C, T0_C + 200.0, "to 6 mol/kg; PHREEQC pitzer.dat")
+#: TEOS-10 is validated to 120 g/kg and 80 degC (Feistel 2008); its Gibbs function is computed, extrapolated and
+#: flagged, to 250 g/kg (about where halite starts to precipitate from concentrated seawater, from memory) and
+#: 0-130 degC (the hottest brine an MED key may ask for).
+_TEOS10 = Validity(0.120, T0_C, T0_C + 80.0, "atmospheric pressure; Feistel 2008", salinity_reach=0.25,
+                   temperature_reach=(T0_C, T0_C + 130.0))
+#: Pitzer NaCl: validated to 6 mol/kg and 200 degC (pitzer.dat); computed to saturation, about 6.15 mol/kg at
+#: 25 degC (from memory: Robinson & Stokes 1959, Electrolyte Solutions, appendix), beyond which no liquid remains
+#: of that composition.
+_PITZER = Validity(6.0 * M_NACL / (1 + 6.0 * M_NACL), T0_C, T0_C + 200.0, "to 6 mol/kg; PHREEQC pitzer.dat",
+                   salinity_reach=6.15 * M_NACL / (1 + 6.15 * M_NACL))
+#: the PHREEQC table of an ion composition (:mod:`compare.thermo.phreeqc`): 0-300 g/kg, 0-100 degC
+_IONS_TABLE = Validity(0.30, T0_C, T0_C + 100.0, "PHREEQC pitzer.dat table")
+WATER_VALIDITY = {"seawater": _TEOS10, "nacl": _PITZER, "ions": _IONS_TABLE}
+
+
+def model_validity(name: str | None, water: str) -> Validity:
+    """The validity (and reach) of model ``name`` (or the water's default) for ``water``, without building it (an
+    ion composition's PHREEQC table is costly)."""
+    name = name or DEFAULT_MODEL.get(water)
+    if name == "teos10":
+        return _TEOS10
+    if name == "pitzer-nacl":
+        return _PITZER
+    return WATER_VALIDITY.get(water, _IONS_TABLE)
 
 
 def _teos10(water: str, **_) -> ActivityModel:
     if water != "seawater":
-        raise InputError(f"model teos10 is for seawater of Reference Composition, not {water}")
+        raise ModelError(f"model teos10 is for seawater of Reference Composition, not {water}")
     return ActivityModel(
         "teos10", "TEOS-10 Gibbs function of seawater (gsw)", water, False, _TEOS10,
         "IOC, SCOR and IAPSO 2010, TEOS-10; Feistel 2008, Deep-Sea Res. I 55, 1639-1671",
@@ -356,7 +323,7 @@ def _teos10(water: str, **_) -> ActivityModel:
 
 def _pitzer_nacl(water: str, **_) -> ActivityModel:
     if water != "nacl":
-        raise InputError(f"model pitzer-nacl is for NaCl solutions, not {water}")
+        raise ModelError(f"model pitzer-nacl is for NaCl solutions, not {water}")
     return ActivityModel(
         "pitzer-nacl", "Pitzer equations for NaCl(aq), PHREEQC pitzer.dat parameters", water, False, _PITZER,
         "Pitzer & Mayorga 1973, J. Phys. Chem. 77, 2300; Appelo 2015, Appl. Geochem. 55, 62 (pitzer.dat); "
@@ -372,18 +339,18 @@ def _particle_mass(water: str, extra: dict) -> float:
     if "composition" in extra:
         from .phreeqc import particle_molar_mass
         return particle_molar_mass(extra["composition"])
-    raise InputError(f"water {water!r} needs an ion composition for this model")
+    raise ModelError(f"water {water!r} needs an ion composition for this model")
 
 
 def _simplification(name, title, ln_aw, gibbs, reference):
     def factory(water: str, **extra) -> ActivityModel:
         M = _particle_mass(water, extra)
-        validity = (_TEOS10 if water == "seawater" else _PITZER if water == "nacl"
-                    else Validity(0.30, T0_C, T0_C + 100.0))
+        validity = _IONS_TABLE if water == "ions" else WATER_VALIDITY[water]
         return ActivityModel(
             name, title, water, True,
             Validity(validity.salinity_max, validity.temperature_min, validity.temperature_max,
-                     "a simplification for comparison only"),
+                     "a simplification for comparison only", salinity_reach=validity.max_salinity,
+                     temperature_reach=validity.temperature_reach),
             reference,
             lambda S, T: ln_aw(S, T, M), lambda S, T: gibbs(S, T, M), M)
     return factory
@@ -392,7 +359,7 @@ def _simplification(name, title, ln_aw, gibbs, reference):
 def _phreeqc(water: str, **extra) -> ActivityModel:
     from .phreeqc import phreeqc_model
     if water != "ions" and "composition" not in extra:
-        raise InputError("model phreeqc needs an ion composition (water = \"ions\" with [feed.ions])")
+        raise ModelError("model phreeqc needs an ion composition (water = \"ions\" with [feed.ions])")
     return phreeqc_model(extra["composition"])
 
 
@@ -419,26 +386,8 @@ MODEL_SUMMARY = {
 def get_model(name: str | None, water: str, **extra) -> ActivityModel:
     """The activity model ``name`` (or the default for ``water``) bound to that water."""
     if water not in WATERS:
-        raise InputError(f"expected water to be one of {', '.join(WATERS)}, got {water!r}")
+        raise ModelError(f"expected water to be one of {', '.join(WATERS)}, got {water!r}")
     name = name or DEFAULT_MODEL[water]
     if name not in MODELS:
-        raise InputError(f"expected a model among {', '.join(MODELS)}, got {name!r}")
+        raise ModelError(f"expected a model among {', '.join(MODELS)}, got {name!r}")
     return MODELS[name](water, **extra)
-
-
-OUT_OF_RANGE = "is outside the validated range of model"
-
-
-def out_of_range_text(what: str, model: ActivityModel) -> str:
-    """The one wording of an out-of-range warning; :func:`is_out_of_range` recognises it (``--strict``)."""
-    return f"{what} {OUT_OF_RANGE} {model.name} ({model.validity.describe()}); the value is extrapolated"
-
-
-def is_out_of_range(warning: str) -> bool:
-    """True for a warning made by :func:`out_of_range_text`."""
-    return OUT_OF_RANGE in warning
-
-
-def range_flags(model: ActivityModel, S, T) -> dict[str, np.ndarray]:
-    """Boolean masks of where S [kg/kg] and T [K] fall outside the model's validated range."""
-    return {"salinity": ~model.validity.salinity_ok(S), "temperature": ~model.validity.temperature_ok(T)}

@@ -86,11 +86,25 @@ def density(S, T, water: str):
 
 
 def density_out_of_range(S, T, water: str):
-    """True where the density correlation is extrapolated."""
+    """True where the density correlation is extrapolated (or its table's edge is used)."""
     S, T = np.asarray(S, dtype=float), np.asarray(T, dtype=float)
     limits = MNA_LIMITS if water == "nacl" else MITSW_LIMITS
     t_max = _water.T_MAX if water == "nacl" else limits[1]
-    return (S > limits[0]) | (T > t_max)
+    return (S > limits[0]) | (T > t_max) | (T < T0_C)
+
+
+def density_flags(S, T, water: str, what: str) -> list:
+    """An ``out_of_range`` flag (code ``density``) where the density of ``what`` is extrapolated; none inside."""
+    from ..flags import Flag
+
+    bad = density_out_of_range(S, T, water)
+    if not np.any(bad):
+        return []
+    name = "INCOMP::MNA" if water == "nacl" else "INCOMP::MITSW"
+    limits = MNA_LIMITS if water == "nacl" else MITSW_LIMITS
+    return [Flag("out_of_range", "density", f"{what}_density", name,
+                 f"{what} density outside its correlation's range ({name}, to {limits[0] * 1e3:.0f} g/kg and "
+                 f"{limits[1] - T0_C:.0f} degC); the nearest tabulated value or an extrapolation is used", bad)]
 
 
 def mass_fraction_from_concentration(c, T, water: str):

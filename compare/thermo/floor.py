@@ -26,8 +26,9 @@ import numpy as np
 
 from . import brine as _brine
 from . import water as _water
-from .activity import ActivityModel, out_of_range_text, range_flags
-from .constants import J_PER_KWH, R
+from ..flags import Flag
+from .model import ActivityModel, range_flags, simplification_flag
+from .constants import R
 
 
 def osmotic_pressure(ln_aw, T):
@@ -103,7 +104,7 @@ class Floor(NamedTuple):
     brine_osmotic_pressure: np.ndarray     # [Pa]
     least_work: np.ndarray                 # [J/m^3 of product] at the recovery
     least_work_zero_recovery: np.ndarray   # [J/m^3 of product]
-    flags: dict                            # name -> bool array: out of the model's validated range
+    flags: tuple                           # Flag: out of the model's validated range, simplification
 
 
 def evaluate_floor(model: ActivityModel, S_f, T, r, S_p=0.0) -> Floor:
@@ -114,71 +115,11 @@ def evaluate_floor(model: ActivityModel, S_f, T, r, S_p=0.0) -> Floor:
     ln_aw_b = model.ln_aw(S_b, T)
     lw = least_work(model, S_f, T, r, S_p)
     lw0 = least_work(model, S_f, T, np.zeros_like(r), S_p)
-    feed = range_flags(model, S_f, T)
-    flags = {
-        "feed_salinity": feed["salinity"],
-        "brine_salinity": range_flags(model, S_b, T)["salinity"],
-        "temperature": feed["temperature"],
-    }
-    return Floor(ln_aw, np.exp(ln_aw), osmotic_pressure(ln_aw, T), S_b, osmotic_pressure(ln_aw_b, T), lw, lw0, flags)
-
-
-def floor_warnings(model: ActivityModel, floor: Floor, S_f, T) -> list[str]:
-    """Plain-text warnings for every flag raised in ``floor`` (empty when all is inside the validated range)."""
-    out = []
-    v = model.validity
-    S_f = np.asarray(S_f, dtype=float)
-    T = np.asarray(T, dtype=float)
-    if floor.flags["feed_salinity"].any():
-        worst = float(np.max(np.where(floor.flags["feed_salinity"], S_f, -np.inf)))
-        out.append(out_of_range_text(f"feed salinity {worst * 1e3:.4g} g/kg", model))
-    if floor.flags["brine_salinity"].any():
-        worst = float(np.max(np.where(floor.flags["brine_salinity"], floor.brine_salinity, -np.inf)))
-        out.append(out_of_range_text(f"brine salinity {worst * 1e3:.4g} g/kg", model))
-    if floor.flags["temperature"].any():
-        bad = np.broadcast_to(T, floor.flags["temperature"].shape)[floor.flags["temperature"]]
-        t_c = float(bad[np.argmax(np.abs(bad - (v.temperature_min + v.temperature_max) / 2))]) - 273.15
-        out.append(out_of_range_text(f"temperature {t_c:.4g} degC", model))
-    if model.simplification:
-        out.append(f"model {model.name} is a simplification for comparison only, not a property model for design")
-    return out
-
-
-def kwh_per_m3(j_per_m3):
-    """[J/m^3] -> [kWh/m^3]."""
-    return np.asarray(j_per_m3, dtype=float) / J_PER_KWH
-
-
-def floor_record(model: ActivityModel, S_f, T, r, S_p=0.0) -> dict:
-    """The floor as a plain record in reporting units (the ``desal floor --format json`` contract).
-
-    Scalars stay scalars; a vector of recoveries gives lists for the recovery-dependent fields.
-    """
-    f = evaluate_floor(model, S_f, T, r, S_p)
-    r_arr = np.asarray(r, dtype=float)
-
-    def val(x, per_recovery=False):
-        x = np.asarray(x, dtype=float)
-        if r_arr.ndim == 0 or not per_recovery:
-            return float(x.ravel()[0]) if x.ndim else float(x)
-        return [float(v) for v in np.broadcast_to(x, r_arr.shape)]
-
-    return {
-        "water": model.water,
-        "model": model.name,
-        "salinity_g_per_kg": val(np.asarray(S_f) * 1e3),
-        "temperature_c": round(val(np.asarray(T) - 273.15), 9),
-        "product_salinity_g_per_kg": val(np.asarray(S_p) * 1e3),
-        "recovery": val(r_arr, True),
-        "water_activity": val(f.water_activity),
-        "osmotic_coefficient": val(model.osmotic_coefficient(S_f, T)),
-        "osmotic_pressure_bar": val(f.osmotic_pressure / 1e5),
-        "brine_salinity_g_per_kg": val(f.brine_salinity * 1e3, True),
-        "brine_osmotic_pressure_bar": val(f.brine_osmotic_pressure / 1e5, True),
-        "least_work_kwh_per_m3": val(kwh_per_m3(f.least_work), True),
-        "least_work_kwh_per_m3_zero_recovery": val(kwh_per_m3(f.least_work_zero_recovery)),
-        "warnings": floor_warnings(model, f, S_f, T),
-    }
+    flags = range_flags(model, S_f, T, "feed")
+    flags += [f for f in range_flags(model, S_b, T, "brine") if f.code == "brine_salinity"]
+    flags += simplification_flag(model)
+    return Floor(ln_aw, np.exp(ln_aw), osmotic_pressure(ln_aw, T), S_b, osmotic_pressure(ln_aw_b, T), lw, lw0,
+                 tuple(flags))
 
 
 class OsmoticTable:
@@ -186,8 +127,8 @@ class OsmoticTable:
     technology models. Built from the model itself; ``tests/thermo/test_floor.py`` bounds its error against it.
 
     Grid: sqrt(S) uniform to S = 0.35 kg/kg (700 nodes), T uniform over 0-150 degC (151 nodes). The tabulated
-    quantity is Pi / S, smooth and finite at S = 0. Outside the grid the nearest edge is used; range flags come from
-    the model's validity, not from this table.
+    quantity is Pi / S, smooth and finite at S = 0. Outside the grid the nearest edge is used: callers flag
+    such points with :meth:`flags` (``out_of_range``, code ``osmotic_table``), besides the model's own validity.
     """
 
     S_MAX = 0.35
@@ -218,6 +159,20 @@ class OsmoticTable:
         val = ((1 - a) * (1 - b) * y[i, j] + a * (1 - b) * y[i + 1, j] + (1 - a) * b * y[i, j + 1]
                + a * b * y[i + 1, j + 1])
         return val * S
+
+    def outside(self, S, T) -> np.ndarray:
+        """True where (S [kg/kg], T [K]) lies outside the table (the nearest edge is used there)."""
+        S, T = np.asarray(S, dtype=float), np.asarray(T, dtype=float)
+        return (S > self.S_MAX) | (T < self.T_MIN - 1e-9) | (T > self.T_MAX + 1e-9) | ~np.isfinite(S)
+
+    def flags(self, S, T, what: str, model: str) -> list[Flag]:
+        """An ``out_of_range`` flag where (S, T) of ``what`` lies outside the table (none when all is inside)."""
+        bad = self.outside(S, T)
+        if not np.any(bad):
+            return []
+        return [Flag("out_of_range", "osmotic_table", f"{what}_salinity", model,
+                     f"{what} outside the osmotic-pressure table (0-{self.S_MAX * 1e3:.0f} g/kg, "
+                     f"{self.T_MIN - 273.15:.0f}-{self.T_MAX - 273.15:.0f} degC); the edge value is used", bad)]
 
 
 _TABLES: dict = {}

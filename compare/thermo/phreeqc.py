@@ -28,8 +28,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import InputError
-from .activity import ActivityModel, Validity
+from .model import ActivityModel, ModelError, Validity
 from .constants import M_W, R, T0_C
 
 #: ions accepted, with the molar mass [kg/mol] and charge PHREEQC uses (pitzer.dat SOLUTION_MASTER_SPECIES)
@@ -56,7 +55,7 @@ def _phreeqc():
     try:
         from phreeqpython import PhreeqPython
     except Exception as exc:  # pragma: no cover - depends on the platform
-        raise InputError("model phreeqc needs the optional extra 'ions' (pip install '.[ions]'); "
+        raise ModelError("model phreeqc needs the optional extra 'ions' (pip install '.[ions]'); "
                          f"phreeqpython could not be imported: {exc}") from None
     return PhreeqPython(database="pitzer.dat").ip
 
@@ -64,10 +63,10 @@ def _phreeqc():
 def _normalise(composition: dict[str, float]) -> dict[str, float]:
     bad = [k for k in composition if k not in IONS]
     if bad:
-        raise InputError(f"feed.ions: expected ions among {', '.join(IONS)}, got {', '.join(bad)}")
+        raise ModelError(f"feed.ions: expected ions among {', '.join(IONS)}, got {', '.join(bad)}")
     total = sum(composition.values())
     if total <= 0:
-        raise InputError("feed.ions: expected at least one ion with a positive concentration")
+        raise ModelError("feed.ions: expected at least one ion with a positive concentration")
     return {k: v / total for k, v in composition.items() if v > 0}
 
 

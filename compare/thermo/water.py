@@ -85,6 +85,19 @@ def in_table(T) -> np.ndarray:
     return (T >= T_MIN) & (T <= T_MAX)
 
 
+def table_flags(T, what: str) -> list:
+    """An ``out_of_range`` flag (code ``steam_table``) where T [K] of ``what`` is outside the water and steam
+    tables (the spline is extrapolated there); none inside."""
+    from ..flags import Flag
+
+    bad = ~in_table(T)
+    if not np.any(bad):
+        return []
+    return [Flag("out_of_range", "steam_table", f"{what}_temperature", "iapws95",
+                 f"{what} temperature outside the water and steam tables ({T_MIN - 273.15:.2f}-"
+                 f"{T_MAX - 273.15:.0f} degC); extrapolated", bad)]
+
+
 def liquid_density(T):
     """Density of liquid water [kg/m^3] at temperature T [K] (IAPWS-95 via CoolProp).
 

@@ -10,7 +10,9 @@ from compare.tech import fo, ro
 from compare.tech.base import Feed
 from compare.thermo.activity import get_model
 from compare.thermo.floor import osmotic_pressure
-from tests.tech.helpers import params
+from compare.present.records import records
+from compare.spec import specs_of
+from tests.tech.helpers import codes, flag, params
 
 SEAWATER = get_model("teos10", "seawater")
 NACL = get_model("pitzer-nacl", "nacl")
@@ -66,7 +68,7 @@ def test_flux_matches_the_published_closed_forms_for_linear_osmotic_pressure():
 def _balance(perf, S_f, r, m_din):
     # identity: the draw salt that left the draw is the salt the feed's brine gained
     d = perf.details
-    lost_by_draw = m_din * d["draw_in_g_per_kg"] / 1e3 - (m_din + r) * d["draw_out_g_per_kg"] / 1e3
+    lost_by_draw = m_din * d["draw_in"] - (m_din + r) * d["draw_out"]
     gained_by_feed = (1 - r) * perf.brine_salinity - S_f
     return lost_by_draw, gained_by_feed
 
@@ -80,9 +82,9 @@ def test_balances_close_and_details():
     assert lost == pytest.approx(gained, rel=1e-9, abs=1e-15)
     assert np.all(gained > 0)                          # the reverse salt flux goes from the draw to the feed
     d = perf.details
-    assert np.all(d["draw_out_g_per_kg"] < d["draw_in_g_per_kg"])
-    assert d["draw_in_mol_per_kg"] == pytest.approx(np.full(3, 1.2), rel=1e-12)
-    assert np.all(d["fo_membrane_area_m2"] > 0) and np.all(d["average_flux_lmh"] > 0)
+    assert np.all(d["draw_out"] < d["draw_in"])
+    assert d["draw_in_molality"] == pytest.approx(np.full(3, 1.2), rel=1e-12)
+    assert np.all(d["fo_membrane_area"] > 0) and np.all(d["average_flux"] > 0)
     # the RO regenerator returns the draw at its strength: its recovery takes out exactly the product
     assert d["regenerator_recovery"] == pytest.approx(r / (1 + r), rel=1e-12)
 
@@ -94,8 +96,7 @@ def test_weak_draw_is_infeasible_with_reason():
     assert exact_pi(NACL)(m_w, 298.15) < exact_pi(SEAWATER)(0.035, 298.15)
     perf = fo.evaluate(feed([0.035]), params(fo, draw_concentration="0.5 mol/kg"))
     assert not perf.feasible[0]
-    reasons = [t for t, m in perf.infeasible.items() if m[0]]
-    assert any("not stronger than the feed or brine" in t for t in reasons)
+    assert codes(perf) == {"driving_force"}
     assert np.isnan(perf.electricity[0])
     # a draw strong at the inlet but weaker than the brine it reaches: also infeasible
     late = fo.evaluate(feed([0.035]), params(fo, recovery=0.6))
@@ -105,8 +106,8 @@ def test_weak_draw_is_infeasible_with_reason():
 def test_regenerator_limits_carry_through():
     # a strong draw needs a regenerator pressure above the element limit: infeasible, named as the regenerator's
     perf = fo.evaluate(feed([0.035]), params(fo, draw_concentration="2.0 mol/kg"))
-    reasons = [t for t, m in perf.infeasible.items() if m[0]]
-    assert reasons and all(t.startswith("FO regenerator (RO)") for t in reasons)
+    reasons = [f for f in perf.flags if f.kind == "infeasible" and f.where((1,))[0]]
+    assert reasons and all(f.model == "fo/ro" and f.message.startswith("FO regenerator: ") for f in reasons)
 
 
 @settings(max_examples=10, deadline=None)
@@ -125,7 +126,7 @@ def test_fo_with_ro_regeneration_uses_more_energy_than_direct_ro(S, r, A, B, S_s
         return
     direct = ro.evaluate(feed([S]), params(ro, recovery=r, **common))
     # like with like: FO's other_electricity (intake, treatment) is RO's default, and its regenerator carries none
-    assert fo.PARAMETERS["other_electricity"].default == ro.PARAMETERS["other_electricity"].default
+    assert specs_of(fo.FOParameters)["other_electricity"].default == specs_of(ro.ROParameters)["other_electricity"].default
     assert perf.electricity[0] > direct.electricity[0]
 
 
@@ -155,7 +156,7 @@ def test_least_work_equals_ro_for_the_same_streams():
             "ro": {"recovery": "30 %", "salt_permeability": "0 L/m^2/h"},
             "fo": {"recovery": "30 %", "salt_permeability": "0 L/m^2/h",
                    "regenerator": {"salt_permeability": "0 L/m^2/h"}}}
-    recs = {r["technology"]: r for r in evaluate(resolve(data, label="test")).records()}
+    recs = {r["technology"]: r for r in records(evaluate(resolve(data, label="test")))}
     assert recs["fo"]["feasible"] and recs["ro"]["feasible"]
     assert recs["fo"]["least_work_kwh_per_m3"] == pytest.approx(recs["ro"]["least_work_kwh_per_m3"], rel=1e-9)
     assert recs["fo"]["electricity_kwh_per_m3"] > recs["ro"]["electricity_kwh_per_m3"]
@@ -173,7 +174,7 @@ def test_segments_converged():
     a = fo.evaluate(feed([0.035]), params(fo, segments=40))
     b = fo.evaluate(feed([0.035]), params(fo, segments=80))
     assert a.electricity[0] == pytest.approx(b.electricity[0], rel=1e-3)
-    assert a.details["fo_membrane_area_m2"][0] == pytest.approx(b.details["fo_membrane_area_m2"][0], rel=1e-3)
+    assert a.details["fo_membrane_area"][0] == pytest.approx(b.details["fo_membrane_area"][0], rel=1e-3)
 
 
 def test_regenerator_subtable_in_scenario_files(tmp_path, capsys):
@@ -211,5 +212,5 @@ def test_regenerator_keys_vary_with_monthly_temperatures():
     res = evaluate(resolve(data, label="test"), varied={"fo.regenerator.flux": np.array([8.0, 12.0]) * LMH})
     (t,) = res.technologies
     assert t.feasible.all()
-    area = t.details["regenerator_membrane_area_m2"]
+    area = t.details["regenerator_membrane_area"]
     assert area[0] == pytest.approx(1.5 * area[1])          # area = capacity / flux

@@ -45,7 +45,7 @@ def test_teos10_against_gsw_directly():
 
 
 def test_teos10_seawater_reference_point():
-    # library: gsw (CHECKS.md): a_w = 0.98131, phi = 0.9026 at S_A = 35.16504 g/kg, 25 degC.
+    # library: gsw: a_w = 0.98131, phi = 0.9026 at S_A = 35.16504 g/kg, 25 degC.
     S, T = 0.03516504, 298.15
     assert np.exp(TEOS10.ln_aw(S, T)) == pytest.approx(0.98131, abs=1e-5)
     assert TEOS10.osmotic_coefficient(S, T) == pytest.approx(0.9026, abs=1e-4)
@@ -66,7 +66,7 @@ def test_pitzer_against_pitzer_mayorga_1973():
 
 def test_pitzer_against_robinson_stokes():
     # memory: Robinson & Stokes 1959, Electrolyte Solutions, NaCl osmotic coefficients at 25 degC (values recalled,
-    # see CHECKS.md); held at 0.3 %.
+    # to be confirmed against the book); held at 0.3 %.
     phi_rs = np.array([0.9324, 0.9209, 0.9355, 0.9833, 1.0453, 1.1158, 1.1916, 1.2721])
     assert pitzer_nacl_osmotic_coefficient(MOLALITIES, 298.15) == pytest.approx(phi_rs, rel=3e-3)
 
@@ -115,10 +115,10 @@ def test_gibbs_duhem_consistency(model):
 
 
 def test_unknown_model_and_wrong_water():
-    from compare.errors import InputError
-    with pytest.raises(InputError, match="expected a model among"):
+    from compare.thermo.model import ModelError
+    with pytest.raises(ModelError, match="expected a model among"):
         get_model("nope", "seawater")
-    with pytest.raises(InputError, match="for seawater"):
+    with pytest.raises(ModelError, match="for seawater"):
         get_model("teos10", "nacl")
     assert set(MODELS) >= {"teos10", "pitzer-nacl", "ideal", "vant-hoff", "phreeqc"}
 
@@ -153,7 +153,7 @@ REFERENCE_COMPOSITION = {  # published: Millero et al. 2008, Deep-Sea Res. I 55,
 
 @requires_phreeqc
 def test_phreeqc_seawater_against_teos10():
-    # library: PHREEQC pitzer.dat vs TEOS-10 for seawater of Reference Composition (CHECKS.md: within about 0.5 %
+    # library: PHREEQC pitzer.dat vs TEOS-10 for seawater of Reference Composition (within about 0.5 %
     # to 100 g/kg at 40 degC and 2 % at 120 g/kg, 80 degC).
     model = get_model("phreeqc", "ions", composition=REFERENCE_COMPOSITION)
     S = np.array([0.01, 0.035, 0.07, 0.1])

@@ -14,7 +14,7 @@ PITZER = get_model("pitzer-nacl", "nacl")
 
 
 def test_osmotic_pressure_of_seawater_against_gsw():
-    # library: gsw (CHECKS.md): Pi = 2.589 MPa at S_A = 35.16504 g/kg, 25 degC, taking Pi = -dmu_w / v_w(pure, T),
+    # library: gsw: Pi = 2.589 MPa at S_A = 35.16504 g/kg, 25 degC, taking Pi = -dmu_w / v_w(pure, T),
     # computed here from gsw alone: dmu_w [J/kg], v_w = gsw.specvol_t_exact(0, t, 0).
     import gsw
     SA, t = 35.16504, 25.0
@@ -44,7 +44,7 @@ def test_least_work_against_gsw_gibbs_form(S_f, t, r, S_p):
                          ids=lambda m: m.name)
 @pytest.mark.parametrize("r", [0.1, 0.5, 0.75])
 def test_gibbs_form_equals_integral_of_osmotic_pressure(model, r):
-    # identity (CHECKS.md): for a pure product, w = (1/r) * integral_0^r (-mu_w(S_b(x))) dx per kg, to 1e-4.
+    # identity: for a pure product, w = (1/r) * integral_0^r (-mu_w(S_b(x))) dx per kg, to 1e-4.
     S_f, T = 0.035, 298.15
     x, wts = np.polynomial.legendre.leggauss(40)
     xs = 0.5 * r * (x + 1)
@@ -105,8 +105,10 @@ def test_floor_broadcasts_and_flags():
     r = np.array([[0.3], [0.6]])
     f = evaluate_floor(TEOS10, S, 298.15, r)
     assert f.least_work.shape == (2, 3)
-    assert f.flags["feed_salinity"].tolist() == [[False, False, True], [False, False, True]]
-    assert f.flags["brine_salinity"][1].tolist() == [False, True, True]
+    by = {fl.code: fl.where(f.least_work.shape) for fl in f.flags}
+    assert by["feed_salinity"].tolist() == [[False, False, True], [False, False, True]]
+    assert by["brine_salinity"][1].tolist() == [False, True, True]
+    assert all(fl.kind == "out_of_range" and fl.model == "teos10" for fl in f.flags)
 
 
 def test_pitzer_nacl_least_work_against_phi_integral_closed_form():

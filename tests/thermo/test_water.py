@@ -22,7 +22,7 @@ def test_tables_against_coolprop_itself():
 
 @pytest.mark.parametrize("t_c,h_fg", [(40.0, 2405.98), (70.0, 2333.03), (100.0, 2256.40)])
 def test_latent_heat_against_iapws_package(t_c, h_fg):
-    # library: the iapws package (IAPWS-95, independent of CoolProp) within 0.05 %; CHECKS.md values to 0.01 kJ/kg.
+    # library: the iapws package (IAPWS-95, independent of CoolProp) within 0.05 %; the figures (kJ/kg) computed with it (library).
     from iapws import IAPWS95
     T = t_c + 273.15
     ref = IAPWS95(T=T, x=1).h - IAPWS95(T=T, x=0).h      # kJ/kg
