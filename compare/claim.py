@@ -190,7 +190,8 @@ def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
     varied = {f"{tech}.{k}": np.array([float(parse_value(specs[k], grids[j][i], k, **ctx)) for i in combos[j]])
               for j, k in enumerate(keys)}
     result = evaluate(scenario, varied)
-    records = [next(r for r in result.records(i) if r["technology"] == tech) for i in range(result.n_cases)]
+    from .present.records import records as _records
+    records = [next(r for r in _records(result, i) if r["technology"] == tech) for i in range(result.n_cases)]
     work = [(_num(r.get("work_equivalent_kwh_per_m3")) if r["feasible"] else None) for r in records]
     feasible = [i for i, w in enumerate(work) if w is not None]
     best = min(feasible, key=lambda i: work[i]) if feasible else 0
@@ -201,7 +202,8 @@ def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
 def scenario_record(scenario: Scenario, tech: str) -> dict:
     """The contract record of ``tech`` for ``scenario`` (one case)."""
     from .pipeline import evaluate
-    return next(r for r in evaluate(scenario).records() if r["technology"] == tech)
+    from .present.records import records
+    return next(r for r in records(evaluate(scenario)) if r["technology"] == tech)
 
 
 # ---------------------------------------------------------------------------------------------------- judging

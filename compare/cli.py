@@ -428,6 +428,7 @@ def cmd_report(args) -> int:
     from .claim import judge, load_claims
     from .pipeline import evaluate
     from .present.files import to_json
+    from .present.records import payload as _payload
     from .present.report import read_sweep, write_report
     from .runrecord import run_record
 
