@@ -296,7 +296,7 @@ def cost_figure(payload: dict) -> str:
                         label="Levelised cost of water and its parts", cls="cost")
 
 
-def _glance(payload: dict) -> list[str]:
+def _glance(payload: dict, judgements=()) -> list[str]:
     recs = [r for r in payload["results"] if r["feasible"]]
     out = []
     fl = payload["floor"]
@@ -316,6 +316,10 @@ def _glance(payload: dict) -> list[str]:
     bad = [r["technology"].upper() for r in payload["results"] if not r["feasible"]]
     if bad:
         out.append(f"Cannot work here as specified: {', '.join(bad)} (reasons under Flags).")
+    if judgements:
+        out.append("Claims: " + "; ".join(
+            f"{j['claim']['technology'].upper()} {j['claim']['work_equivalent_kwh_per_m3']:.2f} kWh/m3 "
+            f"{j['verdict']} ({VERDICT_WORDS[j['verdict']]})" for j in judgements) + ".")
     return out
 
 
@@ -412,7 +416,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         "title": f"{payload['scenario']}: desalination energy screening",
         "scenario": payload["scenario"],
         "question": _question(payload, inputs, [r["technology"] for r in recs]),
-        "glance": _glance(payload),
+        "glance": _glance(payload, judgements),
         "site": site,
         "overrides": sc.get("overrides", []),
         "sections": sections,
