@@ -111,17 +111,19 @@ def test_scope_is_explicit(site):
 
 
 def test_recovery_defaults_to_the_scenario_design(site):
-    j = judge(site, claim("ro", 3.0, recovery=None))
-    assert j["claim"]["recovery"] == pytest.approx(0.45)         # the RO default
-    assert j["claim"]["recovery_from"] == "the scenario's RO design"
+    j = judge(site, claim("med", 1.8, 80.0, 70.0, recovery=None))
+    assert j["claim"]["recovery"] == pytest.approx(0.5)          # MED's default brine, 70 g/kg, from 35 g/kg
+    assert j["claim"]["recovery_from"] == "the scenario's MED design"
 
 
 def test_claim_tables_in_a_scenario_and_a_claim_file(tmp_path, capsys):
     path = tmp_path / "s.toml"
     path.write_text(SITE + """
 [[claim]]
-technology = "ro"
-electricity = "0.6 kWh/m^3"
+technology = "med"
+electricity = "0.2 kWh/m^3"
+heat = "4 kWh/m^3"
+heat_temperature = "70 degC"
 recovery = "50 %"
 source = "a fictional proposal"
 
