@@ -213,12 +213,13 @@ _DESIGNS: dict = {}
 
 def _least_work(scenario: Scenario, r: float) -> tuple[float, float, list[str]]:
     """Least work [kWh/m^3] of the claimed streams (feed at recovery ``r``, product at the scenario's target), the
-    production-weighted dead state [K] (the feed temperature) and warnings (a brine outside the model's range).
+    production-weighted dead state [K] (the feed temperature) and the messages of its ``out_of_range`` flags (a
+    brine beyond the model's validated range).
 
-    A recovery that leaves no liquid brine (above 600 g/kg, as ``desal floor`` refuses) is bad input."""
+    A recovery whose brine lies beyond the activity model's reach is bad input, as for ``desal floor``."""
     from .accounting import month_weights
-    from .thermo.activity import get_model, out_of_range_text, range_flags
-    from .thermo.floor import brine_salinity, least_work
+    from .thermo.activity import get_model
+    from .thermo.floor import brine_salinity, evaluate_floor
 
     feed = scenario.values["feed"]
     extra = {"composition": feed["ions"]} if feed["water"] == "ions" else {}
@@ -226,15 +227,15 @@ def _least_work(scenario: Scenario, r: float) -> tuple[float, float, list[str]]:
     T = np.atleast_1d(np.asarray(feed["temperature"], dtype=float))
     S_p = scenario.values["product"]["salinity"]
     S_b = float(brine_salinity(feed["salinity"], r, S_p))
-    if S_b >= 0.6:
-        raise InputError(f'--recovery: expected a recovery that leaves a liquid brine, got {r:g} (the brine would be '
+    reach = model.validity.max_salinity
+    if S_b > reach:
+        raise InputError(f"--recovery: expected a recovery that leaves a liquid brine within the reach of model "
+                         f"{model.name} (brine up to {reach * 1e3:.4g} g/kg), got {r:g} (the brine would be "
                          f"{S_b * 1e3:.0f} g/kg)")
+    fl = evaluate_floor(model, feed["salinity"], T, r, S_p)
     w = month_weights(T.size)
-    lw = least_work(model, feed["salinity"], T, r, S_p, feed["water"])
-    flags = range_flags(model, S_b, T)
-    warnings = [out_of_range_text(f"the claim's brine ({S_b * 1e3:.0f} g/kg)", model)] \
-        if np.any(flags["salinity"]) else []
-    return float(np.sum(w * lw)) / J_PER_KWH, float(np.sum(w * T)), warnings
+    warnings = [f.message for f in fl.flags if f.kind == "out_of_range" and f.quantity.startswith("brine")]
+    return float(np.sum(w * fl.least_work)) / J_PER_KWH, float(np.sum(w * T)), warnings
 
 
 def claim_work_equivalent(electricity, heat, heat_temperature, T0) -> tuple[float, float]:

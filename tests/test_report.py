@@ -170,7 +170,7 @@ def test_report_reads_flags_when_the_payload_has_them(made):
                                   "model": "teos10", "message": "feed salinity outside teos10's range"}]
     html = render(payload, run)
     assert "The draw is too weak for this recovery." in html and "Feed salinity outside teos10" in html
-    assert "outside its validated range" in html and "infeasible here" in html
+    assert "outside validated range</span>" in html and "infeasible here" in html
 
 
 def test_bad_sweep_folder_is_one_line(tmp_path, capsys):

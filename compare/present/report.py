@@ -37,10 +37,10 @@ CAUTIONS = (
 
 KIND_WORDS = {
     "infeasible": "cannot work",
-    "out_of_range": "model outside its validated range (computed by extrapolation)",
+    "out_of_range": "outside validated range",
     "off_target": "misses its target",
-    "simplification": "simplified model, for comparison only",
-    "clipped": "sampled value held to a bound",
+    "simplification": "simplified model",
+    "clipped": "held to a bound",
     "note": "note",
     "warning": "warning",
 }
@@ -303,7 +303,7 @@ def _glance(payload: dict, judgements=()) -> list[str]:
     lw0 = _num(fl.get("least_work_kwh_per_m3_zero_recovery"))
     if lw0 is not None:
         out.append(f"The thermodynamic floor of this feed is {fmt_number(lw0, 3)} kWh/m3 (least work at zero "
-                   "recovery); each technology's own floor, at its recovery, is a little higher.")
+                   "recovery); each technology's own floor rises with its recovery (the black ticks).")
     for label, field, unit in (("energy (work equivalent)", "work_equivalent_kwh_per_m3", "kWh/m3"),
                                ("levelised cost", "levelized_cost_per_m3", "{currency}/m3"),
                                ("CO2", "emissions_kg_per_m3", "kg/m3")):
@@ -374,14 +374,19 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
     ff = floor_flags(payload)
     if ff:
         flag_groups.append({"name": "Floor and feed", "flags": ff})
+    seen = {(f.get("kind"), f.get("code"), f.get("message")) for f in ff}
     for r in recs:
-        fl = record_flags(r)
+        # a record repeats the floor's flags (they hold for every technology): show them once, under the floor
+        fl = [f for f in record_flags(r) if (f.get("kind"), f.get("code"), f.get("message")) not in seen]
         if fl:
             flag_groups.append({"name": r["technology"].upper(), "flags": fl})
     for g in flag_groups:
         for f in g["flags"]:
             f["words"] = KIND_WORDS.get(f.get("kind"), f.get("kind", ""))
-            f["sentence"] = _sentence(f.get("message", ""))
+            message = f.get("message", "")
+            if message.upper().startswith(f"{g['name']}: "):      # the group already names the technology
+                message = message[len(g["name"]) + 2:]
+            f["sentence"] = _sentence(message)
     sections: dict[str, list] = {}
     for key in sorted(inputs):
         sec = key.split(".", 1)[0]
