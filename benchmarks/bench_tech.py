@@ -6,12 +6,14 @@ call and for a loop of single-case calls (timed on a subset and scaled), their r
 came out feasible.
 """
 
+import dataclasses
 import sys
 import time
 
 import numpy as np
 
 from compare.schema import parse_defaults, parse_value
+from compare.spec import specs_of, values
 from compare.tech import TECHNOLOGIES, Feed, load_builtin
 from compare.thermo.activity import get_model
 
@@ -28,17 +30,18 @@ def cases(tech, n, rng):
     S = rng.uniform(0.025, 0.045, n)
     T = rng.uniform(288.15, 303.15, n)
     feed = Feed(model, "seawater", S, T, np.full(n, 0.0005), np.full(n, 393.15), np.full(n, 1.0))
-    p = parse_defaults(tech.parameters)
+    specs = specs_of(tech.parameters)
+    over = {}
     for key, (lo, hi) in SPREAD.get(tech.name, {}).items():
-        spec = tech.parameters[key]
+        spec = specs[key]
         a, b = parse_value(spec, lo, key), parse_value(spec, hi, key)
-        p[key] = np.round(rng.uniform(a, b, n)) if spec.kind == "count" else rng.uniform(a, b, n)
-    return feed, p
+        over[key] = np.round(rng.uniform(a, b, n)) if spec.kind == "count" else rng.uniform(a, b, n)
+    return feed, parse_defaults(tech.parameters, **over)
 
 
 def one(feed, p, i):
     f = Feed(feed.model, feed.water, *(np.asarray(x)[i:i + 1] for x in feed[2:]))
-    return {k: (v[i:i + 1] if isinstance(v, np.ndarray) else v) for k, v in p.items()}, f
+    return dataclasses.replace(p, **{k: v[i:i + 1] for k, v in values(p).items() if isinstance(v, np.ndarray)}), f
 
 
 def main(n: int = 100_000, names=(), n_loop: int = 200) -> None:

@@ -79,7 +79,7 @@ _RO_BEST = {
     "energy_recovery": ("isobaric", "practice: the most efficient energy recovery device in use"),
     "energy_recovery_efficiency": ("0.98", "practice: top of the 94-98 % range of isobaric exchangers"),
     "energy_recovery_mixing": ("0", "the lowest mixing the tool accepts"),
-    "mass_transfer_coefficient": ("4e-5 m/s", "memory: top of the 1-4e-5 m/s range of spiral-wound channels"),
+    "mass_transfer_coefficient": ("4e-5 m/s", "from memory: top of the 1-4e-5 m/s range of spiral-wound channels"),
 }
 _RO_SEARCH = {
     "water_permeability": (["1 L/m^2/h/bar", "1.5 L/m^2/h/bar", "2 L/m^2/h/bar", "3 L/m^2/h/bar", "5 L/m^2/h/bar",
@@ -111,7 +111,7 @@ ADAPTERS: dict[str, Adapter] = {
         _fo_recovery,
         {**{f"regenerator.{k}": v for k, v in _RO_BEST.items() if k != "energy_recovery"},
          "regenerator.energy_recovery": _RO_BEST["energy_recovery"],
-         "circulation_electricity": ("0.1 kWh/m^3", "memory: the low end of low-pressure feed and draw loops")},
+         "circulation_electricity": ("0.1 kWh/m^3", "from memory: the low end of low-pressure feed and draw loops")},
         {"draw_concentration": (["1.2 mol/kg", "1.5 mol/kg", "2 mol/kg", "2.5 mol/kg", "3 mol/kg"],
                                 "a draw strong enough for the recovery, and no stronger than its regenerator "
                                 "needs")},

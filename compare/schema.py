@@ -7,8 +7,6 @@ touches the scenario loader.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
-from typing import Any
 
 import numpy as np
 

@@ -89,7 +89,7 @@ TECHNOLOGIES: dict[str, Technology] = {}
 
 #: keys every technology section has, besides its own (cost keys are read by the accounting layer)
 COMMON_PARAMETERS = {
-    "enabled": Spec("flag", True, "every registered technology is compared"),
+    "enabled": Spec("flag", True, "tool default: every registered technology is compared"),
 }
 
 

@@ -71,7 +71,7 @@ COLD_END_APPROACH = 5.0   # [K] thermal regenerator's last condenser above the f
 _RO_OWN = {"recovery", "capital_cost", "fixed_om"}
 _RO_FIELDS = set(specs_of(_ro.ROParameters)) - _RO_OWN
 _RO_DEFAULTS = {
-    "other_electricity": ("0 kWh/m^3", "default: the FO plant's own other_electricity covers intake and treatment"),
+    "other_electricity": ("0 kWh/m^3", "tool default: the FO plant's own other_electricity covers intake and treatment"),
     "flux": ("12 L/m^2/h", "common practice: seawater-strength RO design flux"),
 }
 
@@ -98,7 +98,7 @@ class FOParameters:
 
     recovery: Any = param("fraction", "0.35", "from memory: FO on seawater, 30-50 %", expect="a mass recovery in (0, 1)",
                      lo=0.0, hi=1.0, lo_open=True, hi_open=True, role="recovery")
-    draw: Any = param("choice", "nacl", "the draw solute with an activity model (NaCl: Pitzer)", choices=("nacl",))
+    draw: Any = param("choice", "nacl", "tool default: the draw solute with an activity model (NaCl: Pitzer)", choices=("nacl",))
     draw_concentration: Any = param("nacl_concentration", "1.2 mol/kg", "from memory: NaCl draws 0.5-2 mol/kg",
                                expect='a molality such as "1.5 mol/kg" or a mass fraction such as "80 g/kg"',
                                lo=0.0, hi=0.26, lo_open=True)
@@ -114,10 +114,10 @@ class FOParameters:
                              "m^2/s", 'a diffusivity such as "1.5e-9 m^2/s"', lo=0.0, lo_open=True)
     mass_transfer_coefficient: Any = param("quantity", "3e-5 m/s", "from memory: FO feed channels, 1-5e-5 m/s", "m/s",
                                       'a mass transfer coefficient such as "3e-5 m/s"', lo=0.0, lo_open=True)
-    regeneration: Any = param("choice", "ro", "RO regeneration of a NaCl draw", choices=("ro", "thermal"))
+    regeneration: Any = param("choice", "ro", "tool default: RO regeneration of a NaCl draw", choices=("ro", "thermal"))
     circulation_electricity: Any = param("quantity", "0.2 kWh/m^3", "from memory: low-pressure feed and draw loops, "
                                     "0.1-0.3 kWh/m3", "J/m^3", 'an energy per volume such as "0.2 kWh/m^3"', lo=0.0)
-    other_electricity: Any = param("quantity", "0.8 kWh/m^3", "the RO default: intake, pretreatment and post-treatment "
+    other_electricity: Any = param("quantity", "0.8 kWh/m^3", "common practice (the RO default): intake, pretreatment and post-treatment "
                               "on the same assumptions", "J/m^3", 'an energy per volume such as "0.8 kWh/m^3"',
                               lo=0.0)
     segments: Any = param("count", "40", "numerics: permeate steps along the exchanger", expect="a number 4-400",
@@ -258,7 +258,15 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
                   "feed or brine beside it)", ~reached)]
     flags += range_flags(draw_model, S_din, T, "FO draw", "draw")
     flags += pi_D.flags(S_din, T, "FO draw", draw_model.name)
-    flags += pi_F.flags(np.where(reached, ex["S_b"], 0.0), T, "FO brine", feed.model.name)
+    # the feed side of the active layer at the brine end, polarised at the mean flux (the flux solve holds interface
+    # salinities at 340 g/kg, inside the osmotic-pressure tables)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        wall = ex["S_b"] * np.exp(np.minimum(r / (rho * ex["area"]) / b(p.mass_transfer_coefficient), 30.0))
+    wall = np.where(reached & np.isfinite(wall), wall, 0.0)
+    flags += pi_F.flags(wall, T, "FO brine at the membrane", feed.model.name)
+    flags.append(Flag("out_of_range", "wall_salinity_cap", "membrane_wall_salinity", "fo",
+                      "FO: the feed-side brine at the membrane passes 340 g/kg, where the flux solve holds it",
+                      (wall > 0.34) & ~pi_F.outside(wall, T)))
     details = {}
     if p.regeneration == "ro":
         # the diluted draw is the RO feed; recovery returns it to the draw strength (product r per m_dout)

@@ -73,7 +73,7 @@ class MEDParameters:
                              choices=("parallel", "forward"))
     top_brine_temperature: Any = param("temperature", "65 degC", "common practice: 65-70 degC to limit scaling",
                                   expect='a temperature such as "65 degC"', lo=T0_C + 30, hi=T0_C + 130)
-    last_brine_temperature: Any = param("temperature", OPTIONAL, "the feed temperature plus last_brine_margin",
+    last_brine_temperature: Any = param("temperature", OPTIONAL, "tool default: the feed temperature plus last_brine_margin",
                                    expect='a temperature such as "40 degC"', lo=T0_C + 5, hi=T0_C + 120)
     last_brine_margin: Any = param("quantity", "10 K", "common practice: last effect about 10 K above the seawater", "K",
                               'a temperature difference such as "10 K"', lo=0.0, lo_open=True)
@@ -90,10 +90,10 @@ class MEDParameters:
                                    'a pressure drop such as "40 Pa"', lo=0.0)
     non_equilibrium_allowance: Any = param("quantity", "0.3 K", "from memory: a few tenths of a K per effect", "K",
                                       'a temperature difference such as "0.3 K"', lo=0.0)
-    vapor_compression: Any = param("flag", False, "default: no thermal vapour compression")
+    vapor_compression: Any = param("flag", False, "tool default: no thermal vapour compression")
     motive_steam_pressure: Any = param("quantity", "10 bar", "from memory: TVC motive steam 3-25 bar", "Pa",
                                   'a pressure such as "10 bar"', lo=0.0, lo_open=True)
-    suction_effect: Any = param("count", OPTIONAL, "the last effect", expect="an effect number 1-16", lo=1, hi=16)
+    suction_effect: Any = param("count", OPTIONAL, "tool default: the last effect", expect="an effect number 1-16", lo=1, hi=16)
     electricity: Any = param("quantity", "1.8 kWh/m^3", "common practice: MED pumping 1.5-2.5 kWh/m3", "J/m^3",
                         'an energy per volume such as "1.8 kWh/m^3"', lo=0.0)
     capital_cost: Any = param("money", "1800 USD/(m^3/day)", "from memory: MED plants, about 1500-2500 USD per m3/day",
@@ -294,7 +294,6 @@ def _group(feed, p, idx, N, k_suc, tvc, size):
         bad[("out_of_range", "steam_table", "motive_steam_temperature",
              "MED: the motive steam is outside the water and steam tables; its enthalpy is taken at the table's "
              "edge")] = ~_water.in_table(T_m)
-    flags = {}
     return dict(D=D, M=M, heat=heat, T_heat=T_heat, S_b=S[-1], T_b=T[-1], T_d=T_c[-1], M_cw=M_cw, T_cw=T_cw,
                 area=area_e.sum(axis=0) + area_ph + area_c, T_s=T_s, rec=rec, bpe_last=bpe[-1],
                 step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, T1=T1)

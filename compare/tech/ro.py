@@ -95,7 +95,7 @@ class ROParameters:
                          'a pressure such as "82.7 bar"', lo=0.0, lo_open=True)
     max_lead_flux: Any = param("quantity", "35 L/m^2/h", "from memory: a common limit on the lead element's average flux",
                           "m/s", 'a flux such as "35 L/m^2/h"', lo=0.0, lo_open=True)
-    booster_pressure: Any = param("quantity", "0 bar", "default: no interstage booster", "Pa",
+    booster_pressure: Any = param("quantity", "0 bar", "tool default: no interstage booster", "Pa",
                              'a pressure such as "5 bar"', lo=0.0)
     pump_efficiency: Any = efficiency("0.85", "common practice: high-pressure pump 80-88 %")
     motor_efficiency: Any = efficiency("0.95", "common practice: large induction motor")
@@ -389,6 +389,11 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
     ]
     flags += [f.with_mask(rs(f.mask)) for f in table.flags(np.nan_to_num(wall), T, "RO membrane-wall brine",
                                                             feed.model.name)]
+    capped = (wall > S_CAP) & ~table.outside(np.nan_to_num(wall), T)
+    if capped.any():
+        flags.append(Flag("out_of_range", "wall_salinity_cap", "membrane_wall_salinity", "ro",
+                          f"RO: the membrane-wall brine passes {S_CAP * 1e3:.0f} g/kg, where the flux solve holds it "
+                          "(the edge of the osmotic-pressure table)", rs(capped)))
     flags += [f.with_mask(rs(f.mask)) for f in _brine.density_flags(np.nan_to_num(S_bm), T, feed.water,
                                                                      "RO brine")]
     flags = [f for f in flags if f.any()]

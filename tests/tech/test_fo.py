@@ -12,7 +12,7 @@ from compare.thermo.activity import get_model
 from compare.thermo.floor import osmotic_pressure
 from compare.present.records import records
 from compare.spec import specs_of
-from tests.tech.helpers import codes, flag, params
+from tests.tech.helpers import codes, params
 
 SEAWATER = get_model("teos10", "seawater")
 NACL = get_model("pitzer-nacl", "nacl")

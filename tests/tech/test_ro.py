@@ -9,7 +9,7 @@ from compare.tech import ro
 from compare.tech.base import Feed
 from compare.thermo.activity import get_model
 from compare.thermo.floor import least_work, osmotic_pressure
-from tests.tech.helpers import codes, flag, params as _params
+from tests.tech.helpers import codes, params as _params
 
 SEAWATER = get_model("teos10", "seawater")
 
