@@ -251,47 +251,60 @@ def cmd_sweep(args) -> int:
                          + ("both" if args.vary else "neither"))
     if args.chunk is not None and args.chunk < 1:
         raise InputError(f"--chunk: expected a number of cases of 1 or more, got {args.chunk}")
+    if args.workers is not None and args.workers < 1:
+        raise InputError(f"--workers: expected a number of worker processes of 1 or more, got {args.workers}")
+    if args.workers is not None and args.scheduler:
+        raise InputError("--workers and --scheduler: expected one of them, got both")
     scenario = _load_all([args.scenario], args.set or [])[0]
     if args.vary:
         axes = [sw.parse_vary(v, scenario) for v in args.vary]
-        cases, notes, mode = sw.grid_cases(axes), [], "grid"
+        source, mode = sw.grid(axes), "grid"
     else:
         axes = []
-        cases, notes = sw.sample_cases(scenario, args.samples, args.seed, args.lhs)
-        mode = "samples"
+        source, mode = sw.sampler(scenario, args.samples, args.seed, args.lhs), "samples"
     from .scenario import reach_errors
     label = scenario.path or scenario.name
-    problems = reach_errors(scenario.values, lambda d: (f"--vary {d}" if mode == "grid" else
-                                                        f"{label}: uncertainty.{d}") if d in cases
-                            else f"{label}: {d}", scenario.texts, varied=cases)
-    if problems:
-        raise InputErrors(problems)
-    n = len(next(iter(cases.values())))
+    n = source.n
+    chunk = args.chunk or sw.default_chunk(scenario)
+    for start in range(0, n, max(chunk, 100_000)):          # values beyond the models' reach, before any work
+        part = source.draw(start, min(n, start + max(chunk, 100_000)))[0]
+        problems = reach_errors(scenario.values, lambda d: (f"--vary {d}" if mode == "grid" else
+                                                            f"{label}: uncertainty.{d}") if d in part
+                                else f"{label}: {d}", scenario.texts, varied=part)
+        if problems:
+            raise InputErrors(problems)
+    from . import executor as ex
+    cases_format = args.cases or ("parquet" if _has_pyarrow() else "csv")
+    if cases_format == "parquet" and not _has_pyarrow():
+        raise InputError("--cases parquet: expected the optional extra 'parquet' (pyarrow) installed, got none; "
+                         "use --cases csv")
+    executor = ex.make(args.workers, args.scheduler)
     folder = None if args.no_save else RunFolder(Path(args.out or "results"), f"{scenario.name}-sweep")
     frames = [] if args.format == "csv" else None
+    csv_file = None
     try:
-        csv_file = folder.open("cases.csv") if folder is not None else None
-        parquet = _parquet_writer(folder) if folder is not None else None
-        state = {"header": True}
+        if folder is not None and cases_format == "csv":
+            csv_file = folder.open("cases.csv")
+        state = {"header": True, "part": 0}
 
         def sink(frame):
             if csv_file is not None:
                 frame.to_csv(csv_file, index=False, header=state["header"])
                 state["header"] = False
-            if parquet is not None:
-                parquet.write(frame)
+            elif folder is not None:
+                _write_part(folder, state["part"], frame)
+                state["part"] += 1
             if frames is not None:
                 frames.append(frame)
         with _progress(n, quiet=args.quiet) as progress:
-            result = sw.run(scenario, cases, mode=mode, chunk=args.chunk, progress=progress,
+            result = sw.run(scenario, source, mode=mode, chunk=chunk, progress=progress,
                             sink=sink if (folder is not None or frames is not None) else None, axes=axes,
-                            warnings=notes, seed=args.seed if mode == "samples" else None, lhs=args.lhs)
+                            seed=args.seed if mode == "samples" else None, lhs=args.lhs, executor=executor)
         body = sw.payload(result)
         saved = None
         if folder is not None:
-            csv_file.close()
-            if parquet is not None:
-                parquet.close()
+            if csv_file is not None:
+                csv_file.close()
             folder.write("summary.json", to_json(body))
             folder.write("report.md", sweep_markdown(body))
             folder.write("run.json", to_json(run_record([scenario], ["desal", *args.argv])))
@@ -300,6 +313,7 @@ def cmd_sweep(args) -> int:
                 (plots.grid_figure if mode == "grid" else plots.samples_figure)(result, folder)
             saved = folder.commit()
     finally:
+        executor.close()
         if folder is not None and folder.path is None:
             if csv_file is not None and not csv_file.closed:
                 csv_file.close()
@@ -342,28 +356,18 @@ class _progress:
         return False
 
 
-def _parquet_writer(folder):
-    """A streaming Parquet writer of the cases when pyarrow is installed, else None."""
-    try:
-        import pyarrow as pa
-        import pyarrow.parquet as pq
-    except ImportError:
-        return None
+def _has_pyarrow() -> bool:
+    import importlib.util
+    return importlib.util.find_spec("pyarrow") is not None
 
-    class _Writer:
-        def __init__(self):
-            self.w = None
 
-        def write(self, frame):
-            table = pa.Table.from_pandas(frame, preserve_index=False)
-            if self.w is None:
-                self.w = pq.ParquetWriter(str(folder.file("cases.parquet")), table.schema)
-            self.w.write_table(table.cast(self.w.schema))
-
-        def close(self):
-            if self.w is not None:
-                self.w.close()
-    return _Writer()
+def _write_part(folder, index: int, frame) -> None:
+    """One chunk's rows as ``cases/part-NNNNN.parquet`` (the parts read together as one table, in case order)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+    path = folder.file(f"cases/part-{index:05d}.parquet")
+    path.parent.mkdir(exist_ok=True)
+    pq.write_table(pa.Table.from_pandas(frame, preserve_index=False), str(path))
 
 
 def cmd_check(args) -> int:
@@ -548,8 +552,8 @@ def build_parser() -> argparse.ArgumentParser:
                                    "product) or over samples of its [uncertainty] section (--samples), in vectorised "
                                    "chunks. Prints percentiles per technology, the share of cases each ranks first "
                                    "on cost, energy and emissions, and where along a grid the first place changes. "
-                                   "Saves summary.json, cases.csv (every case) and plots into a new folder under "
-                                   "results/ unless --no-save.")
+                                   "Saves summary.json, the cases (Parquet parts in cases/, or cases.csv) and plots "
+                                   "into a new folder under results/ unless --no-save.")
     _scenario_arguments(w, many=False)
     w.add_argument("--vary", action="append", metavar="K=GRID",
                    help='a grid of one key: K=START:STOP:N (linear), K=START:STOP:N:log, or K=V1,V2,...; values with '
@@ -559,6 +563,11 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--lhs", action="store_true", help="Latin hypercube sampling instead of plain random sampling")
     w.add_argument("--chunk", type=int, metavar="N", help="cases per vectorised chunk (default about 20000 "
                                                           "technology evaluations)")
+    w.add_argument("--workers", type=int, metavar="N", help="evaluate chunks in N worker processes (same results)")
+    w.add_argument("--scheduler", metavar="ADDRESS", help="evaluate chunks on a Dask cluster, e.g. tcp://host:8786 "
+                                                          "(optional extra 'dask'; same results)")
+    w.add_argument("--cases", choices=("parquet", "csv"), help="format of the saved cases: Parquet parts in cases/ "
+                                                               "(default with pyarrow) or one cases.csv")
     _save_arguments(w, "draw the metrics against the grid, or their distributions (PNG, SVG into the run folder)")
     w.add_argument("--quiet", action="store_true", help="no progress bar")
     w.set_defaults(func=cmd_sweep)

@@ -76,24 +76,35 @@ def _parse_one(spec: Spec, text: str, where: str, ctx: dict) -> float:
     return float(np.mean(v)) if spec.kind == "temperatures" else float(v)
 
 
+@dataclass(frozen=True)
+class Scale:
+    """SI -> a display unit: ``v * factor + offset`` (a plain object, so that it travels to worker processes)."""
+
+    factor: float = 1.0
+    offset: float = 0.0
+
+    def __call__(self, v):
+        return np.asarray(v) * self.factor + self.offset
+
+
 def _display(spec: Spec, text: str, currency: str):
     """(unit label, SI -> display function) for a key, after the unit the user wrote."""
     from .units import parse_quantity, registry
     if spec.kind in ("temperature", "temperatures"):
-        return "degC", lambda v: np.asarray(v) - 273.15
+        return "degC", Scale(1.0, -273.15)
     if spec.kind in ("salinity", "nacl_concentration"):
-        return "g/kg", lambda v: np.asarray(v) * 1e3
+        return "g/kg", Scale(1e3)
     if spec.kind in ("fraction", "count"):
-        return "-", lambda v: np.asarray(v)
+        return "-", Scale()
     try:
         q = parse_quantity(text.strip(), where="", expect="")
         si_unit = f"{currency} * {spec.unit}" if spec.kind == "money" else spec.unit
         factor = registry().Quantity(1.0, si_unit).to(q.units).magnitude
         import re
         label = re.sub(r"^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*", "", text.strip()) or f"{q.units:~}"
-        return label.replace(" ", ""), lambda v: np.asarray(v) * factor
+        return label.replace(" ", ""), Scale(float(factor))
     except Exception:                     # noqa: BLE001 - display only; fall back to SI
-        return spec.unit or "-", lambda v: np.asarray(v)
+        return spec.unit or "-", Scale()
 
 
 def parse_vary(text: str, scenario: Scenario) -> Axis:
@@ -143,10 +154,8 @@ def parse_vary(text: str, scenario: Scenario) -> Axis:
 
 def grid_cases(axes: list[Axis]) -> dict[str, np.ndarray]:
     """The Cartesian product of the axes, the first varying slowest: key -> (N,) SI values."""
-    if len({a.key for a in axes}) != len(axes):
-        raise InputError("--vary: each key may be varied once")
-    mesh = np.meshgrid(*[a.values for a in axes], indexing="ij")
-    return {a.key: m.ravel() for a, m in zip(axes, mesh)}
+    g = grid(axes)
+    return g.draw(0, g.n)[0]
 
 
 # ---------------------------------------------------------------------------------------------- Monte Carlo
@@ -167,40 +176,147 @@ def _ppf(dist: dict, u: np.ndarray) -> np.ndarray:
     raise AssertionError(kind)  # pragma: no cover
 
 
-def sample_cases(scenario: Scenario, n: int, seed: int | None, lhs: bool = False):
-    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, warnings about clipped samples)."""
+def _uniforms(entropy: int, start: int, stop: int, d: int) -> np.ndarray:
+    """Rows ``start:stop`` of the (n, d) matrix of uniforms that one seeded stream gives in order: the PCG64 stream
+    of ``entropy`` advanced to position ``start * d`` (one 64-bit draw per double), so a row depends on its index and
+    the seed only, never on how the cases are cut into chunks."""
+    bits = np.random.PCG64(entropy)
+    bits.advance(start * d)
+    return np.random.Generator(bits).random((stop - start, d))
+
+
+_STRATA: dict = {}
+
+
+def _strata(entropy: int, n: int, d: int) -> np.ndarray:
+    """The Latin hypercube's strata: per dimension a random permutation of 0..n-1 (an (n, d) int array), from a
+    second stream of the seed; built once per process (a worker rebuilds it, about 10 ms per 10^6 cases)."""
+    key = (entropy, n, d)
+    if key not in _STRATA:
+        _STRATA.clear()
+        rng = np.random.default_rng([entropy, 1])
+        dtype = np.int32 if n < 2 ** 31 else np.int64
+        _STRATA[key] = np.stack([rng.permutation(n).astype(dtype) for _ in range(d)], axis=1)
+    return _STRATA[key]
+
+
+def _clip_to_spec(spec: Spec, x: np.ndarray):
+    """Values clipped into the key's valid range and how many were outside it."""
+    lo = -np.inf if spec.lo is None else spec.lo
+    hi = np.inf if spec.hi is None else spec.hi
+    eps_lo = abs(lo) * 1e-9 + 1e-12 if spec.lo_open else 0.0
+    eps_hi = abs(hi) * 1e-9 + 1e-12 if spec.hi_open else 0.0
+    bad = (x < lo + eps_lo) | (x > hi - eps_hi)
+    count = int(np.count_nonzero(bad))
+    if count:
+        x = np.clip(x, lo + eps_lo, hi - eps_hi)
+    return x, count
+
+
+def values_from_uniforms(unc: dict, specs: dict, keys, u: np.ndarray):
+    """Case values from uniforms (rows: cases, columns: ``keys``) through each distribution's inverse CDF: (key ->
+    values, key -> how many were outside the key's range)."""
+    u = np.clip(u, 1e-12, 1 - 1e-12)
+    out, outside = {}, {}
+    for j, k in enumerate(keys):
+        x, outside[k] = _clip_to_spec(specs[k], _ppf(unc[k], u[:, j]))
+        if specs[k].kind == "count":
+            x = np.round(x)
+        out[k] = x
+    return out, outside
+
+
+@dataclass(frozen=True)
+class Samples:
+    """Monte Carlo cases as a function of their index: case i takes row i of one seeded stream of uniforms
+    (Latin hypercube: its stratum in each dimension plus that row), whatever chunk draws it."""
+
+    uncertainty: dict
+    specs: dict
+    keys: tuple
+    n: int
+    entropy: int
+    lhs: bool = False
+
+    def draw(self, start: int, stop: int):
+        """Cases ``start:stop``: (key -> values, key -> how many were outside the key's range)."""
+        d = len(self.keys)
+        u = _uniforms(self.entropy, start, stop, d)
+        if self.lhs:
+            u = (_strata(self.entropy, self.n, d)[start:stop] + u) / self.n
+        return values_from_uniforms(self.uncertainty, self.specs, self.keys, u)
+
+    def warnings(self, outside: dict) -> list[str]:
+        return [f"uncertainty.{k}: {c} of {self.n} samples fell outside the key's valid range and were clipped to it"
+                for k, c in outside.items() if c]
+
+
+@dataclass(frozen=True)
+class Grid:
+    """Grid cases as a function of their index (the Cartesian product of the axes' values, the first slowest)."""
+
+    keys: tuple
+    values: tuple            # per key, its (n_k,) SI values
+
+    @property
+    def n(self) -> int:
+        return int(np.prod([v.size for v in self.values]))
+
+    def draw(self, start: int, stop: int):
+        idx = np.unravel_index(np.arange(start, stop), tuple(v.size for v in self.values))
+        return {k: v[i] for k, v, i in zip(self.keys, self.values, idx)}, {}
+
+    def warnings(self, outside: dict) -> list[str]:
+        return []
+
+
+@dataclass(frozen=True)
+class Given:
+    """Cases given as arrays (key -> (N,) SI values)."""
+
+    cases: dict
+
+    @property
+    def keys(self) -> tuple:
+        return tuple(self.cases)
+
+    @property
+    def n(self) -> int:
+        return len(next(iter(self.cases.values())))
+
+    def draw(self, start: int, stop: int):
+        return {k: np.asarray(v)[start:stop] for k, v in self.cases.items()}, {}
+
+    def warnings(self, outside: dict) -> list[str]:
+        return []
+
+
+def sampler(scenario: Scenario, n: int, seed: int | None, lhs: bool = False) -> Samples:
+    """The :class:`Samples` of every ``[uncertainty]`` key (checked); ``seed`` None takes fresh entropy."""
     unc = scenario.uncertainty
     label = scenario.path or scenario.name
     if not unc:
         raise InputError(f"{label}: uncertainty: --samples needs an [uncertainty] section with at least one key")
     if n < 1:
         raise InputError(f"--samples: expected a number of samples of 1 or more, got {n}")
-    keys = sorted(unc)
+    keys = tuple(sorted(unc))
     specs = {k: _spec(k, f"{label}: uncertainty.{k}") for k in keys}
-    rng = np.random.default_rng(seed)
-    if lhs:
-        from scipy.stats import qmc
-        u = qmc.LatinHypercube(d=len(keys), seed=rng).random(n)
-    else:
-        u = rng.random((n, len(keys)))
-    u = np.clip(u, 1e-12, 1 - 1e-12)
-    out, warnings = {}, []
-    for j, k in enumerate(keys):
-        x = _ppf(unc[k], u[:, j])
-        spec = specs[k]
-        lo = -np.inf if spec.lo is None else spec.lo
-        hi = np.inf if spec.hi is None else spec.hi
-        eps_lo = abs(lo) * 1e-9 + 1e-12 if spec.lo_open else 0.0
-        eps_hi = abs(hi) * 1e-9 + 1e-12 if spec.hi_open else 0.0
-        bad = (x < lo + eps_lo) | (x > hi - eps_hi)
-        if bad.any():
-            warnings.append(f"uncertainty.{k}: {int(bad.sum())} of {n} samples fell outside the key's valid range "
-                            f"and were clipped to it")
-            x = np.clip(x, lo + eps_lo, hi - eps_hi)
-        if spec.kind == "count":
-            x = np.round(x)
-        out[k] = x
-    return out, warnings
+    entropy = np.random.SeedSequence(seed).entropy
+    return Samples(unc, specs, keys, n, entropy, lhs)
+
+
+def grid(axes: list[Axis]) -> Grid:
+    """The :class:`Grid` of the axes (each key once)."""
+    if len({a.key for a in axes}) != len(axes):
+        raise InputError("--vary: each key may be varied once")
+    return Grid(tuple(a.key for a in axes), tuple(np.asarray(a.values, dtype=float) for a in axes))
+
+
+def sample_cases(scenario: Scenario, n: int, seed: int | None, lhs: bool = False):
+    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, warnings about clipped samples)."""
+    plan = sampler(scenario, n, seed, lhs)
+    cases, outside = plan.draw(0, n)
+    return cases, plan.warnings(outside)
 
 
 # ---------------------------------------------------------------------------------------------- evaluation
@@ -232,40 +348,114 @@ def default_chunk(scenario: Scenario) -> int:
     return max(1, 20000 // M)
 
 
-def run(scenario: Scenario, cases: dict, *, mode: str, chunk: int | None = None, progress=None, sink=None,
-        axes=None, warnings=None, seed=None, lhs=False) -> SweepResult:
-    """Evaluate every case in chunks. ``progress(done, total)`` is called after each chunk; ``sink(frame)`` gets
-    each chunk's rows (a pandas DataFrame, one row per case and technology)."""
+@dataclass(frozen=True)
+class ChunkTask:
+    """One chunk of a sweep as plain data, for any executor: the scenario, the technologies it enables (so that a
+    fresh worker can register them), where the cases come from and which of them, and whether to build the rows."""
+
+    scenario: Scenario
+    technologies: dict          # name -> Technology
+    source: object              # Samples | Grid | Given
+    start: int
+    stop: int
+    units: dict | None          # key -> (label, Scale) for the rows; None: no rows
+
+
+@dataclass
+class ChunkResult:
+    """What a chunk gives back: its cases, the floor, per technology feasibility and metrics, flag counts, the rows."""
+
+    start: int
+    stop: int
+    cases: dict
+    outside: dict
+    floor: np.ndarray
+    feasible: dict
+    metrics: dict
+    counts: dict
+    frame: object = None
+
+
+def evaluate_chunk(task: ChunkTask) -> ChunkResult:
+    """Draw a chunk's cases from their positions, evaluate them through the pipeline and keep the headline metrics
+    (runs in this process or in a worker)."""
     from .pipeline import evaluate
-    n = len(next(iter(cases.values())))
+    from .tech.base import TECHNOLOGIES
+    for name, tech in task.technologies.items():
+        TECHNOLOGIES.setdefault(name, tech)
+    part, outside = task.source.draw(task.start, task.stop)
+    res = evaluate(task.scenario, varied=part)
+    m = task.stop - task.start
+    feasible, metrics = {}, {}
+    for t in res.technologies:
+        feasible[t.technology] = np.asarray(t.feasible, dtype=bool)
+        metrics[t.technology] = {
+            k: np.where(t.feasible, convert(getattr(t, attr), _FIELDS[attr].unit), np.nan)
+            for k, attr in METRIC_ATTRS.items()}
+    counts: dict = {}          # flag -> [cases, first case]
+    for f in res.flags():
+        key = (f.kind, f.code, f.model, f.message)
+        where = np.asarray(f.where((m,)))
+        c = int(np.count_nonzero(where))
+        if c:
+            first = task.start + int(np.argmax(where))
+            old = counts.get(key, [0, first])
+            counts[key] = [old[0] + c, min(old[1], first)]
+    frame = None
+    if task.units is not None:
+        shown = {f"{k} [{task.units[k][0]}]": task.units[k][1](v) for k, v in part.items()}
+        frame = case_frame(res, task.start, shown)
+    return ChunkResult(task.start, task.stop, part, outside, convert(res.floor.least_work_zero_recovery, "kWh/m3"),
+                       feasible, metrics, counts, frame)
+
+
+def run(scenario: Scenario, cases, *, mode: str, chunk: int | None = None, progress=None, sink=None,
+        axes=None, warnings=None, seed=None, lhs=False, executor=None, in_flight: int | None = None) -> SweepResult:
+    """Evaluate every case in chunks. ``cases`` is a dict of (N,) arrays or a case source (:class:`Samples`,
+    :class:`Grid`) whose chunks draw their own cases. ``executor`` (:mod:`compare.executor`; default this process)
+    runs the chunks, at most ``in_flight`` at a time; results do not depend on it or on ``chunk``.
+    ``progress(done, total)`` is called after each chunk; ``sink(frame)`` gets each chunk's rows in case order (a
+    pandas DataFrame, one row per case and technology)."""
+    from . import executor as ex
+    from .tech.base import TECHNOLOGIES
+    source = cases if hasattr(cases, "draw") else Given(dict(cases))
+    n = source.n
     chunk = chunk or default_chunk(scenario)
     techs = list(scenario.technologies)
     metrics = {t: {m: np.full(n, np.nan) for m in METRICS} for t in techs}
     feasible = {t: np.zeros(n, dtype=bool) for t in techs}
     floor = np.full(n, np.nan)
-    counts: dict[str, int] = {}
-    units = display_units(scenario, cases, axes)
-    for start in range(0, n, chunk):
-        stop = min(n, start + chunk)
-        part = {k: v[start:stop] for k, v in cases.items()}
-        res = evaluate(scenario, varied=part)
-        floor[start:stop] = convert(res.floor.least_work_zero_recovery, "kWh/m3")
-        for t in res.technologies:
-            feasible[t.technology][start:stop] = t.feasible
-            for m, attr in METRIC_ATTRS.items():
-                val = convert(getattr(t, attr), _FIELDS[attr].unit)
-                metrics[t.technology][m][start:stop] = np.where(t.feasible, val, np.nan)
-        for f in res.flags():
-            key = (f.kind, f.code, f.model, f.message)
-            counts[key] = counts.get(key, 0) + int(np.count_nonzero(f.where((stop - start,))))
+    values = {k: np.empty(n) for k in source.keys}
+    counts: dict = {}
+    outside: dict = {}
+    units = display_units(scenario, source.keys, axes) if sink is not None else None
+    registered = {t: TECHNOLOGIES[t] for t in techs}
+    tasks = (ChunkTask(scenario, registered, source, a, min(n, a + chunk), units) for a in range(0, n, chunk))
+    for r in ex.imap(executor or ex.Serial(), evaluate_chunk, tasks, in_flight):
+        sl = slice(r.start, r.stop)
+        floor[sl] = r.floor
+        for k, v in r.cases.items():
+            values[k][sl] = v
+        for t in techs:
+            feasible[t][sl] = r.feasible[t]
+            for m in METRICS:
+                metrics[t][m][sl] = r.metrics[t][m]
+        for key, (c, first) in r.counts.items():
+            old = counts.get(key, [0, first])
+            counts[key] = [old[0] + c, min(old[1], first)]
+        for k, c in r.outside.items():
+            outside[k] = outside.get(k, 0) + c
         if sink is not None:
-            sink(case_frame(res, start, {f"{k} [{units[k][0]}]": units[k][1](v) for k, v in part.items()}))
+            sink(r.frame)
         if progress is not None:
-            progress(stop, n)
-    notes = list(warnings or []) + [f"{msg} (in {c} of {n} cases)" for (_, _, _, msg), c in counts.items()]
-    flags = [{"kind": k, "code": code, "model": model, "message": msg, "cases": c}
-             for (k, code, model, msg), c in counts.items()]
-    return SweepResult(scenario, mode, cases, techs, metrics, feasible, floor, list(axes or []), notes, seed, lhs,
+            progress(r.stop, n)
+    # in the order of the first case each flag holds in (whatever the chunks), then of the layers
+    order = sorted(counts, key=lambda key: counts[key][1])
+    notes = list(warnings or []) + source.warnings(outside)
+    notes += [f"{key[3]} (in {counts[key][0]} of {n} cases)" for key in order]
+    flags = [{"kind": k, "code": code, "model": model, "message": msg, "cases": counts[(k, code, model, msg)][0]}
+             for (k, code, model, msg) in order]
+    return SweepResult(scenario, mode, values, techs, metrics, feasible, floor, list(axes or []), notes, seed, lhs,
                        flags)
 
 
@@ -285,6 +475,21 @@ def display_units(scenario: Scenario, keys, axes=None) -> dict:
     return out
 
 
+def _joined(labels: list[str], masks: list, n: int) -> np.ndarray:
+    """Per case, the labels whose mask holds there, joined by "; " (each distinct combination joined once)."""
+    if not labels:
+        return np.full(n, "", dtype=object)
+    if len(labels) > 62:
+        return np.array(["; ".join(lab for lab, m in zip(labels, masks) if m[i]) for i in range(n)], dtype=object)
+    code = np.zeros(n, dtype=np.int64)
+    for b, m in enumerate(masks):
+        code |= np.asarray(m, dtype=np.int64) << b
+    uniq, inv = np.unique(code, return_inverse=True)
+    texts = np.array(["; ".join(lab for b, lab in enumerate(labels) if (int(u) >> b) & 1) for u in uniq],
+                     dtype=object)
+    return texts[inv.reshape(-1)]
+
+
 def case_frame(res, offset: int, shown: dict):
     """One chunk's rows: a pandas DataFrame with a row per (case, technology), headline figures through the field
     table, and each row's flags (the feed's included) as ``kind:code`` and its warnings."""
@@ -301,8 +506,8 @@ def case_frame(res, offset: int, shown: dict):
         cols["currency"] = res.scenario.currency
         flags = [*res.floor.flags, *t.flags]
         masks = [f.where((n,)) for f in flags]
-        cols["flags"] = ["; ".join(f"{f.kind}:{f.code}" for f, m in zip(flags, masks) if m[i]) for i in range(n)]
-        cols["warnings"] = ["; ".join(f.message for f, m in zip(flags, masks) if m[i]) for i in range(n)]
+        cols["flags"] = _joined([f"{f.kind}:{f.code}" for f in flags], masks, n)
+        cols["warnings"] = _joined([f.message for f in flags], masks, n)
         frames.append(pd.DataFrame(cols))
     return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame(base)
 
@@ -409,5 +614,6 @@ def payload(sr: SweepResult) -> dict:
     return body
 
 
-__all__ = ["Axis", "SweepResult", "parse_vary", "grid_cases", "sample_cases", "run", "summary", "ranking",
+__all__ = ["Axis", "SweepResult", "parse_vary", "grid_cases", "sample_cases", "sampler", "grid", "Samples", "Grid",
+           "Given", "ChunkTask", "evaluate_chunk", "run", "summary", "ranking",
            "break_even", "first_place", "payload", "METRICS", "RANK_BY"]

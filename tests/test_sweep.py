@@ -180,9 +180,9 @@ def test_cli_sweep_grid_files_and_contract(toy, tmp_path, capsys):
     assert {r["criterion"] for r in body["ranking"]} == {"cost", "energy", "emissions"}
     (folder,) = list(out.iterdir())
     names = {p.name for p in folder.iterdir()}
-    assert {"summary.json", "cases.csv", "run.json", "report.md", "sweep.png", "sweep.svg"} <= names
+    assert {"summary.json", "cases", "run.json", "report.md", "sweep.png", "sweep.svg"} <= names
     import pandas as pd
-    cases = pd.read_csv(folder / "cases.csv")
+    cases = pd.read_parquet(folder / "cases")
     assert len(cases) == 8 and {"toy.recovery [-]", "feed.salinity [g/kg]", "technology"} <= set(cases.columns)
     assert "Screening estimate only" in (folder / "report.md").read_text()
 

@@ -165,13 +165,16 @@ def _sentence(text: str) -> str:
 
 # ------------------------------------------------------------------------------------------------------ sweeps
 def read_sweep(folder) -> dict:
-    """A sweep run folder (``summary.json``, ``cases.csv``, ``run.json``) as plain data for the report."""
+    """A sweep run folder (``summary.json``, the cases as ``cases/`` Parquet parts or ``cases.csv``, ``run.json``) as
+    plain data for the report."""
     from ..errors import InputError
 
     folder = Path(folder)
     summary_path = folder / "summary.json"
-    if not summary_path.is_file() or not (folder / "cases.csv").is_file():
-        raise InputError(f'--sweep: expected a sweep run folder holding summary.json and cases.csv, got "{folder}"')
+    parts = folder / "cases"
+    if not summary_path.is_file() or not ((folder / "cases.csv").is_file() or parts.is_dir()):
+        raise InputError(f'--sweep: expected a sweep run folder holding summary.json and its cases (cases/ or '
+                         f'cases.csv), got "{folder}"')
     try:
         summary = json.loads(summary_path.read_text(encoding="utf-8"))
         run = json.loads((folder / "run.json").read_text(encoding="utf-8")) if (folder / "run.json").is_file() \
@@ -184,9 +187,15 @@ def read_sweep(folder) -> dict:
     axes = summary.get("grid") or []
     columns = [f"{a['key']} [{a['unit']}]" for a in axes]
     try:
-        cases = pd.read_csv(folder / "cases.csv", usecols=lambda c: c in wanted or c in columns)
-    except (OSError, ValueError) as exc:
-        raise InputError(f'--sweep: expected a readable cases.csv in "{folder}", got {exc}') from None
+        if parts.is_dir():
+            import pyarrow.parquet as pq
+            names = pq.read_schema(sorted(parts.glob("part-*.parquet"))[0]).names
+            cases = pd.read_parquet(parts, columns=[c for c in names if c in wanted or c in columns])
+        else:
+            cases = pd.read_csv(folder / "cases.csv", usecols=lambda c: c in wanted or c in columns)
+    except (OSError, ValueError, IndexError, ImportError) as exc:
+        raise InputError(f'--sweep: expected readable cases in "{folder}", got {type(exc).__name__}: '
+                         f'{str(exc).splitlines()[0] if str(exc) else ""}') from None
     return {"folder": str(folder), "summary": summary, "run": run, "cases": cases, "columns": columns}
 
 
