@@ -145,20 +145,52 @@ class OsmoticTable:
         self.y = np.vstack([y0[None, :], y])
         self.du = self.u[1] - self.u[0]
         self.dt = self.t[1] - self.t[0]
+        self._prepare()
+
+    def _prepare(self):
+        """Per cell, the four coefficients of its bilinear form c0 + a cu + b (ct + a cut) in one row, so that a
+        lookup gathers one contiguous row per point."""
+        y = self.y
+        c0 = y[:-1, :-1]
+        cu = y[1:, :-1] - c0
+        ct = y[:-1, 1:] - c0
+        cut = y[1:, 1:] - y[1:, :-1] - ct
+        self._coef = np.ascontiguousarray(np.stack([c0, cu, ct, cut], axis=-1).reshape(-1, 4))
+        self._cells_t = self.t.size - 1
+        self._inv_du, self._inv_dt = 1.0 / self.du, 1.0 / self.dt
+        self._fu_max, self._ft_max = self.u.size - 1.000001, self.t.size - 1.000001
 
     def __call__(self, S, T):
-        """Osmotic pressure [Pa] at S [kg/kg] and T [K] (arrays broadcast)."""
-        S, T = np.broadcast_arrays(np.asarray(S, dtype=float), np.asarray(T, dtype=float))
-        fu = np.clip(np.nan_to_num(np.sqrt(np.clip(S, 0.0, None)) / self.du), 0.0, self.u.size - 1.000001)
-        ft = np.clip((T - self.T_MIN) / self.dt, 0.0, self.t.size - 1.000001)
+        """Osmotic pressure [Pa] at S [kg/kg] and T [K] (arrays broadcast).
+
+        Outside the grid the nearest edge is used (NaN or negative S reads the S = 0 column, and the result is S
+        times it); :meth:`outside` and :meth:`flags` say where."""
+        S = np.asarray(S, dtype=float)
+        T = np.asarray(T, dtype=float)
+        if S.shape != T.shape:
+            S, T = np.broadcast_arrays(S, T)
+        if S.ndim == 0:
+            return self(S.reshape(1), T.reshape(1))[0]
+        fu = np.sqrt(np.maximum(S, 0.0))
+        fu *= self._inv_du
+        np.fmin(np.fmax(fu, 0.0, out=fu), self._fu_max, out=fu)        # fmax/fmin send NaN to the bound
+        ft = T - self.T_MIN
+        ft *= self._inv_dt
+        np.fmin(np.fmax(ft, 0.0, out=ft), self._ft_max, out=ft)
         i = fu.astype(np.intp)
         j = ft.astype(np.intp)
-        a = fu - i
-        b = ft - j
-        y = self.y
-        val = ((1 - a) * (1 - b) * y[i, j] + a * (1 - b) * y[i + 1, j] + (1 - a) * b * y[i, j + 1]
-               + a * b * y[i + 1, j + 1])
-        return val * S
+        fu -= i                                # a: position inside the cell along sqrt(S)
+        ft -= j                                # b: along T
+        i *= self._cells_t
+        i += j
+        c = self._coef[i]
+        val = c[..., 3] * fu
+        val += c[..., 2]
+        val *= ft
+        val += c[..., 1] * fu
+        val += c[..., 0]
+        val *= S
+        return val
 
     def outside(self, S, T) -> np.ndarray:
         """True where (S [kg/kg], T [K]) lies outside the table (the nearest edge is used there)."""
