@@ -27,19 +27,30 @@ MITSW_LIMITS = (0.12, T0_C + 120.0)
 MNA_LIMITS = (0.23, T0_C + 40.0)
 
 
-@functools.lru_cache(maxsize=4)
-def _incomp_table(fluid: str, s_max: float, t_max: float):
+def _incomp_values(fluid: str, S: np.ndarray, T: np.ndarray) -> dict:
     from CoolProp.CoolProp import PropsSI
-    from scipy.interpolate import RegularGridInterpolator
 
-    S = np.linspace(0.0, s_max * 0.9999, 24)     # CoolProp answers inf exactly at its limits
-    T = np.linspace(T0_C + 0.01 if fluid == "MITSW" else T0_C, t_max - 0.01, 41)
     rho = np.empty((S.size, T.size))
     for i, s in enumerate(S):
         # incompressible model: pressure only keeps CoolProp from calling it vapour above 100 degC
         rho[i] = PropsSI("D", "T", T, "P", 1.0e6, f"INCOMP::{fluid}[{s:.6f}]")
     if not np.all(np.isfinite(rho)):
         raise RuntimeError(f"CoolProp INCOMP::{fluid} returned non-finite densities while building the table")
+    return {"rho": rho}
+
+
+@functools.lru_cache(maxsize=4)
+def _incomp_table(fluid: str, s_max: float, t_max: float):
+    """A cubic table of CoolProp's incompressible density, its values kept in the user's cache folder."""
+    from scipy.interpolate import RegularGridInterpolator
+
+    from .cache import arrays, library_version
+
+    S = np.linspace(0.0, s_max * 0.9999, 24)     # CoolProp answers inf exactly at its limits
+    T = np.linspace(T0_C + 0.01 if fluid == "MITSW" else T0_C, t_max - 0.01, 41)
+    key = {"coolprop": library_version("CoolProp"), "fluid": fluid, "s": [0.0, s_max * 0.9999, S.size],
+           "t": [float(T[0]), float(T[-1]), T.size], "format": 1}
+    rho = arrays(f"incomp-{fluid.lower()}-density", key, lambda: _incomp_values(fluid, S, T))["rho"]
     return RegularGridInterpolator((S, T), rho, method="cubic", bounds_error=False, fill_value=None)
 
 

@@ -1,8 +1,9 @@
 """Pure water and steam from CoolProp (IAPWS-95), through tables built on first use.
 
 CoolProp is the source of truth for pure water and steam. Calling it point by point is slow and its import costs about
-two seconds, so this module imports it only when a property is first asked for, evaluates it once on a fine grid, and
-serves every later call by cubic-spline interpolation, vectorised. ``tests/thermo/test_water.py`` bounds the
+two seconds, so this module evaluates it once on a fine grid, keeps the values in the user's cache folder
+(:mod:`compare.thermo.cache`, keyed by CoolProp's version and the grid; CoolProp is imported only to build them) and
+serves every call by cubic-spline interpolation, vectorised. ``tests/thermo/test_water.py`` bounds the
 interpolation error against CoolProp itself (below 1e-6 relative).
 
 Grid: 0.01-250 degC along saturation. Liquid density is taken at max(1 atm, saturation pressure), the state of liquid
@@ -45,20 +46,26 @@ def coolprop_liquid_density(T):
     return np.where(psat * (1 + 1e-6) > P_ATM, rho_sat, rho_p)
 
 
+def _grid_values() -> dict:
+    """CoolProp's values on the table's grid (the slow part: CoolProp's import and 16,000 calls)."""
+    props = _coolprop()
+    T = np.linspace(T_MIN, T_MAX, _N)
+    return {"T": T, "psat": props("P", "T", T, "Q", 0, "Water"), "rho_l": coolprop_liquid_density(T),
+            "h_l": props("H", "T", T, "Q", 0, "Water"), "h_v": props("H", "T", T, "Q", 1, "Water"),
+            "s_l": props("S", "T", T, "Q", 0, "Water"), "s_v": props("S", "T", T, "Q", 1, "Water"),
+            "cp_l": props("C", "T", T, "Q", 0, "Water"), "rho_v": props("D", "T", T, "Q", 1, "Water")}
+
+
 @functools.lru_cache(maxsize=1)
 def _tables():
     from scipy.interpolate import CubicSpline
 
-    props = _coolprop()
-    T = np.linspace(T_MIN, T_MAX, _N)
-    psat = props("P", "T", T, "Q", 0, "Water")
-    rho_l = coolprop_liquid_density(T)
-    h_l = props("H", "T", T, "Q", 0, "Water")
-    h_v = props("H", "T", T, "Q", 1, "Water")
-    s_l = props("S", "T", T, "Q", 0, "Water")
-    s_v = props("S", "T", T, "Q", 1, "Water")
-    cp_l = props("C", "T", T, "Q", 0, "Water")
-    rho_v = props("D", "T", T, "Q", 1, "Water")
+    from .cache import arrays, library_version
+
+    key = {"coolprop": library_version("CoolProp"), "t_min": T_MIN, "t_max": T_MAX, "n": _N, "format": 1}
+    v = arrays("iapws95-saturation", key, _grid_values)
+    T, psat, rho_l, h_l, h_v, s_l, s_v, cp_l, rho_v = (v[k] for k in ("T", "psat", "rho_l", "h_l", "h_v", "s_l",
+                                                                      "s_v", "cp_l", "rho_v"))
     tab = {
         "ln_psat": CubicSpline(T, np.log(psat)),
         "rho_l": CubicSpline(T, rho_l),

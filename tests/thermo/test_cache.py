@@ -1,0 +1,74 @@
+"""Tables built from CoolProp once and kept in the user's cache folder: read back unchanged, rebuilt when damaged or
+when CoolProp's version changes, within their bound of CoolProp itself, and commands with a warm cache never import
+CoolProp."""
+
+import os
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+from compare.thermo import cache, water
+
+
+def test_arrays_are_built_once_then_read_back(tmp_path, monkeypatch):
+    monkeypatch.setenv(cache.ENV, str(tmp_path))
+    calls = []
+
+    def build():
+        calls.append(1)
+        return {"x": np.linspace(0, 1, 5), "y": np.arange(3.0)}
+
+    key = {"lib": "1.0", "n": 5, "format": 1}
+    a = cache.arrays("demo", key, build)
+    b = cache.arrays("demo", key, build)
+    assert len(calls) == 1 and all(np.array_equal(a[k], b[k]) for k in a)
+    (path,) = tmp_path.glob("demo-*.npz")                    # one file, no temporary left behind
+    path.write_bytes(b"not a table")                          # damaged: rebuilt and replaced
+    cache.arrays("demo", key, build)
+    assert len(calls) == 2
+    cache.arrays("demo", {**key, "lib": "2.0"}, build)        # another library version: another file
+    assert len(calls) == 3 and len(list(tmp_path.glob("demo-*.npz"))) == 2
+    assert not list(tmp_path.glob(".*"))
+
+
+def test_cache_off_or_unwritable_still_builds(tmp_path, monkeypatch):
+    monkeypatch.setenv(cache.ENV, "off")
+    assert cache.arrays("demo", {"n": 1}, lambda: {"x": np.ones(2)})["x"].tolist() == [1.0, 1.0]
+    blocked = tmp_path / "file"
+    blocked.write_text("")
+    monkeypatch.setenv(cache.ENV, str(blocked / "sub"))       # a folder that cannot be made
+    assert cache.arrays("demo", {"n": 1}, lambda: {"x": np.ones(2)})["x"].size == 2
+
+
+def test_cached_steam_tables_within_their_bound_of_coolprop(tmp_path, monkeypatch):
+    # library: CoolProp IAPWS-95 called directly, between the grid nodes, from a freshly written cache file
+    monkeypatch.setenv(cache.ENV, str(tmp_path))
+    water._tables.cache_clear()
+    try:
+        water._tables()
+        water._tables.cache_clear()
+        water._tables()                                        # read back from the file
+        from CoolProp.CoolProp import PropsSI
+        T = np.linspace(274.0, 520.0, 97) + 0.0371
+        assert water.liquid_density(T) == pytest.approx(water.coolprop_liquid_density(T), rel=1e-6)
+        assert water.saturation_pressure(T) == pytest.approx(PropsSI("P", "T", T, "Q", 0, "Water"), rel=1e-6)
+        assert water.latent_heat(T) == pytest.approx(PropsSI("H", "T", T, "Q", 1, "Water")
+                                                     - PropsSI("H", "T", T, "Q", 0, "Water"), rel=1e-6)
+    finally:
+        water._tables.cache_clear()
+
+
+def test_floor_and_compare_with_a_warm_cache_do_not_import_coolprop(tmp_path):
+    env = {**os.environ, cache.ENV: str(tmp_path)}
+    code = ("import sys\nfrom compare.cli import main\n"
+            "assert main(['floor', '--salinity', '35 g/kg', '--temperature', '25 degC', '--recovery', '0.5',"
+            " '--format', 'json']) == 0\n"
+            "assert main(['compare', 'scenarios/dry-creek.toml', '--no-save', '--format', 'json']) == 0\n"
+            "print('COOLPROP' if 'CoolProp' in sys.modules else 'NONE', file=sys.stderr)\n")
+    root = os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+    runs = [subprocess.run([sys.executable, "-c", code], env=env, cwd=root, capture_output=True, text=True,
+                           timeout=300) for _ in range(2)]
+    assert all(r.returncode == 0 for r in runs), runs[0].stderr[-2000:]
+    assert runs[1].stderr.strip().splitlines()[-1] == "NONE"
