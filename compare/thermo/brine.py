@@ -41,24 +41,27 @@ def _incomp_values(fluid: str, S: np.ndarray, T: np.ndarray) -> dict:
 
 @functools.lru_cache(maxsize=4)
 def _incomp_table(fluid: str, s_max: float, t_max: float):
-    """A cubic table of CoolProp's incompressible density, its values kept in the user's cache folder."""
-    from scipy.interpolate import RegularGridInterpolator
-
+    """A cubic table of CoolProp's incompressible density (a tensor-product spline, as RegularGridInterpolator's
+    cubic method), its values and coefficients kept in the user's cache folder."""
     from .cache import arrays, library_version
+    from .spline import Spline2D, coefficients_2d
 
     S = np.linspace(0.0, s_max * 0.9999, 24)     # CoolProp answers inf exactly at its limits
     T = np.linspace(T0_C + 0.01 if fluid == "MITSW" else T0_C, t_max - 0.01, 41)
     key = {"coolprop": library_version("CoolProp"), "fluid": fluid, "s": [0.0, s_max * 0.9999, S.size],
-           "t": [float(T[0]), float(T[-1]), T.size], "format": 1}
-    rho = arrays(f"incomp-{fluid.lower()}-density", key, lambda: _incomp_values(fluid, S, T))["rho"]
-    return RegularGridInterpolator((S, T), rho, method="cubic", bounds_error=False, fill_value=None)
+           "t": [float(T[0]), float(T[-1]), T.size], "format": 2}
+
+    def build():
+        rho = _incomp_values(fluid, S, T)["rho"]
+        return {"rho": rho, "coef": coefficients_2d(S, T, rho)}
+    return Spline2D(S, T, arrays(f"incomp-{fluid.lower()}-density", key, build)["coef"])
 
 
 def _incomp(fluid, limits, S, T):
     S, T = np.broadcast_arrays(np.asarray(S, dtype=float), np.asarray(T, dtype=float))
     tab = _incomp_table(fluid, *limits)
     Tc = np.clip(T, tab.grid[1][0], tab.grid[1][-1])
-    return tab(np.stack([S.ravel(), Tc.ravel()], axis=-1)).reshape(S.shape)
+    return tab(S, Tc)
 
 
 def seawater_density(S, T):

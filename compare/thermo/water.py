@@ -56,28 +56,32 @@ def _grid_values() -> dict:
             "cp_l": props("C", "T", T, "Q", 0, "Water"), "rho_v": props("D", "T", T, "Q", 1, "Water")}
 
 
+_PROPERTIES = ("ln_psat", "rho_l", "h_l", "h_v", "s_l", "s_v", "cp_l", "rho_v")
+
+
+def _build() -> dict:
+    """The grid values and each property's spline coefficients (and those of T as a function of ln p_sat)."""
+    from .spline import coefficients_1d
+
+    v = _grid_values()
+    v["ln_psat"] = np.log(v["psat"])
+    out = {"T": v["T"]}
+    for name in _PROPERTIES:
+        out[name] = v[name]
+        out[f"{name}_coef"] = coefficients_1d(v["T"], v[name])
+    out["T_of_lnp_coef"] = coefficients_1d(v["ln_psat"], v["T"])
+    return out
+
+
 @functools.lru_cache(maxsize=1)
 def _tables():
-    from scipy.interpolate import CubicSpline
-
     from .cache import arrays, library_version
+    from .spline import Spline1D
 
-    key = {"coolprop": library_version("CoolProp"), "t_min": T_MIN, "t_max": T_MAX, "n": _N, "format": 1}
-    v = arrays("iapws95-saturation", key, _grid_values)
-    T, psat, rho_l, h_l, h_v, s_l, s_v, cp_l, rho_v = (v[k] for k in ("T", "psat", "rho_l", "h_l", "h_v", "s_l",
-                                                                      "s_v", "cp_l", "rho_v"))
-    tab = {
-        "ln_psat": CubicSpline(T, np.log(psat)),
-        "rho_l": CubicSpline(T, rho_l),
-        "h_l": CubicSpline(T, h_l),
-        "h_v": CubicSpline(T, h_v),
-        "s_l": CubicSpline(T, s_l),
-        "s_v": CubicSpline(T, s_v),
-        "cp_l": CubicSpline(T, cp_l),
-        "rho_v": CubicSpline(T, rho_v),
-        # inverse of saturation: T as a function of ln p
-        "T_of_lnp": CubicSpline(np.log(psat), T),
-    }
+    key = {"coolprop": library_version("CoolProp"), "t_min": T_MIN, "t_max": T_MAX, "n": _N, "format": 2}
+    v = arrays("iapws95-saturation", key, _build)
+    tab = {name: Spline1D(v["T"], v[f"{name}_coef"]) for name in _PROPERTIES}
+    tab["T_of_lnp"] = Spline1D(v["ln_psat"], v["T_of_lnp_coef"])    # inverse of saturation: T of ln p
     return tab
 
 

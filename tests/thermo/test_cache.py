@@ -72,3 +72,22 @@ def test_floor_and_compare_with_a_warm_cache_do_not_import_coolprop(tmp_path):
                            timeout=300) for _ in range(2)]
     assert all(r.returncode == 0 for r in runs), runs[0].stderr[-2000:]
     assert runs[1].stderr.strip().splitlines()[-1] == "NONE"
+
+
+def test_stored_spline_coefficients_evaluate_as_scipy_splines():
+    # library: scipy's CubicSpline (1-D, uniform and scattered knots, with extrapolation) and RectBivariateSpline
+    # (2-D tensor product of not-a-knot cubics, s=0), to rounding
+    from scipy.interpolate import CubicSpline, RectBivariateSpline
+
+    from compare.thermo import spline
+    rng = np.random.default_rng(3)
+    for x in (np.linspace(0.0, 5.0, 30), np.sort(rng.uniform(0.0, 5.0, 30))):
+        y = np.exp(-x) * np.sin(3 * x)
+        t = rng.uniform(-0.5, 5.5, 500)
+        np.testing.assert_allclose(spline.Spline1D(x, spline.coefficients_1d(x, y))(t), CubicSpline(x, y)(t),
+                                   rtol=0, atol=1e-14)
+    x, y = np.linspace(0.0, 0.2, 24), np.linspace(273.15, 313.15, 41)
+    z = 1000 + 700 * x[:, None] + 50 * np.sin(30 * x[:, None]) * np.cos(y[None, :] / 7)
+    xi, yi = rng.uniform(0.0, 0.2, 500), rng.uniform(273.15, 313.15, 500)
+    np.testing.assert_allclose(spline.Spline2D(x, y, spline.coefficients_2d(x, y, z))(xi, yi),
+                               RectBivariateSpline(x, y, z, kx=3, ky=3, s=0).ev(xi, yi), rtol=1e-13)
