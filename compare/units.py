@@ -26,8 +26,12 @@ _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s
 
 @functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
-    """The project's unit registry (built once)."""
-    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, on_redefinition="ignore")
+    """The project's unit registry (built once; pint keeps its parsed definitions in the cache folder, which makes
+    later builds about ten times faster)."""
+    from .cache import folder
+    where = folder()
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, on_redefinition="ignore",
+                             cache_folder=None if where is None else str(where / "pint"))
     for code in CURRENCIES:
         ureg.define(f"{code} = [currency_{code}]")
     ureg.define("MGD = 1e6 * gallon / day")

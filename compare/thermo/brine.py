@@ -43,7 +43,7 @@ def _incomp_values(fluid: str, S: np.ndarray, T: np.ndarray) -> dict:
 def _incomp_table(fluid: str, s_max: float, t_max: float):
     """A cubic table of CoolProp's incompressible density (a tensor-product spline, as RegularGridInterpolator's
     cubic method), its values and coefficients kept in the user's cache folder."""
-    from .cache import arrays, library_version
+    from ..cache import arrays, library_version
     from .spline import Spline2D, coefficients_2d
 
     S = np.linspace(0.0, s_max * 0.9999, 24)     # CoolProp answers inf exactly at its limits

@@ -75,7 +75,7 @@ def _build() -> dict:
 
 @functools.lru_cache(maxsize=1)
 def _tables():
-    from .cache import arrays, library_version
+    from ..cache import arrays, library_version
     from .spline import Spline1D
 
     key = {"coolprop": library_version("CoolProp"), "t_min": T_MIN, "t_max": T_MAX, "n": _N, "format": 2}

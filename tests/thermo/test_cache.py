@@ -9,7 +9,8 @@ import sys
 import numpy as np
 import pytest
 
-from compare.thermo import cache, water
+from compare import cache
+from compare.thermo import water
 
 
 def test_arrays_are_built_once_then_read_back(tmp_path, monkeypatch):
