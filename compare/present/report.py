@@ -257,10 +257,14 @@ def sweep_context(sweep: dict) -> dict:
                        "shares": ", ".join(f"{k.upper() if k != 'none feasible' else k} {100 * v:.0f} %"
                                            for k, v in r.get("first_share", {}).items() if v)})
     changes = [c for r in s.get("ranking", []) for c in r.get("changes", [])]
-    flags = list(s.get("flags") or [])
+    flags = [dict(f) for f in s.get("flags") or []]
     if not flags:
         flags = [{"kind": "warning", "message": w if isinstance(w, str) else w.get("message", str(w))}
                  for w in s.get("warnings", [])]
+    for f in flags:
+        f["words"] = KIND_WORDS.get(f.get("kind"), f.get("kind", ""))
+        f["sentence"] = _sentence(f.get("message", "") + (f" (in {f['cases']} of {s.get('cases')} cases)"
+                                                          if f.get("cases") else ""))
     sc = (sweep["run"].get("scenarios") or [{}])[0]
     return {"folder": sweep["folder"], "mode": s.get("mode"), "cases": s.get("cases"), "varied": s.get("varied", []),
             "grid": s.get("grid"), "sampling": s.get("sampling"), "shares": shares, "changes": changes,
