@@ -251,13 +251,22 @@ def cmd_sweep(args) -> int:
                          + ("both" if args.vary else "neither"))
     if args.chunk is not None and args.chunk < 1:
         raise InputError(f"--chunk: expected a number of cases of 1 or more, got {args.chunk}")
+    if args.sensitivity and args.samples is None:
+        raise InputError(f"--sensitivity {args.sensitivity}: expected --samples N (the Monte Carlo it analyses), "
+                         "got a grid")
+    if args.sensitivity == "sobol" and args.lhs:
+        raise InputError("--lhs: --sensitivity sobol draws its own design (Sobol points); expected no --lhs, got it")
     scenario = _load_all([args.scenario], args.set or [])[0]
     if args.vary:
         axes = [sw.parse_vary(v, scenario) for v in args.vary]
         cases, notes, mode = sw.grid_cases(axes), [], "grid"
     else:
         axes = []
-        cases, notes = sw.sample_cases(scenario, args.samples, args.seed, args.lhs)
+        if args.sensitivity == "sobol":
+            from .sensitivity import sobol_cases
+            cases, _, notes = sobol_cases(scenario, args.samples, args.seed)
+        else:
+            cases, notes = sw.sample_cases(scenario, args.samples, args.seed, args.lhs)
         mode = "samples"
     from .scenario import reach_errors
     label = scenario.path or scenario.name
@@ -286,7 +295,11 @@ def cmd_sweep(args) -> int:
             result = sw.run(scenario, cases, mode=mode, chunk=args.chunk, progress=progress,
                             sink=sink if (folder is not None or frames is not None) else None, axes=axes,
                             warnings=notes, seed=args.seed if mode == "samples" else None, lhs=args.lhs)
-        body = sw.payload(result)
+        sensitivity = None
+        if args.sensitivity:
+            from .sensitivity import analyse
+            sensitivity, result = analyse(args.sensitivity, scenario, result, args.samples, args.seed, args.chunk)
+        body = sw.payload(result, sensitivity)
         saved = None
         if folder is not None:
             csv_file.close()
@@ -298,6 +311,8 @@ def cmd_sweep(args) -> int:
             if args.plot:
                 from .present import plots
                 (plots.grid_figure if mode == "grid" else plots.samples_figure)(result, folder)
+                if sensitivity is not None:
+                    plots.sensitivity_figure(sensitivity, scenario, folder)
             saved = folder.commit()
     finally:
         if folder is not None and folder.path is None:
@@ -557,6 +572,10 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--samples", type=int, metavar="N", help="N Monte Carlo samples of the [uncertainty] section")
     w.add_argument("--seed", type=int, default=20261201, help="seed of the random generator (default 20261201)")
     w.add_argument("--lhs", action="store_true", help="Latin hypercube sampling instead of plain random sampling")
+    w.add_argument("--sensitivity", choices=("sobol", "tornado"),
+                   help="with --samples: Sobol indices (first-order and total, 95 %% intervals; N a power of two, "
+                        "N (d + 2) evaluations for d uncertain keys) or a tornado (each key at its p10 and p90, the "
+                        "others at their medians) of cost, work equivalent and emissions")
     w.add_argument("--chunk", type=int, metavar="N", help="cases per vectorised chunk (default about 20000 "
                                                           "technology evaluations)")
     _save_arguments(w, "draw the metrics against the grid, or their distributions (PNG, SVG into the run folder)")

@@ -11,8 +11,9 @@ units as in a scenario file. Several grids give the Cartesian product; the first
 
 Monte Carlo: the scenario's ``[uncertainty]`` entries (triangular, uniform, normal, lognormal), sampled by
 inverse-transform of uniforms from a seeded ``numpy.random.Generator``, or with Latin hypercube uniforms
-(``scipy.stats.qmc.LatinHypercube``) when asked. Samples outside a key's valid range are clipped to it and counted
-(reported as warnings); counts are rounded.
+(``scipy.stats.qmc.LatinHypercube``) when asked, then mapped to values by :mod:`compare.uncertainty`: each
+distribution truncated to its key's valid range (nothing is clipped), rank correlations of ``[correlation]`` through a
+Gaussian copula, and shared physical inputs; counts are rounded.
 """
 
 from __future__ import annotations
@@ -150,33 +151,14 @@ def grid_cases(axes: list[Axis]) -> dict[str, np.ndarray]:
 
 
 # ---------------------------------------------------------------------------------------------- Monte Carlo
-def _ppf(dist: dict, u: np.ndarray) -> np.ndarray:
-    from scipy import stats
-    kind = dist["distribution"]
-    if kind == "uniform":
-        return dist["low"] + u * (dist["high"] - dist["low"])
-    if kind == "triangular":
-        lo, mode, hi = dist["low"], dist["mode"], dist["high"]
-        if hi == lo:
-            return np.full_like(u, lo)
-        return stats.triang.ppf(u, (mode - lo) / (hi - lo), loc=lo, scale=hi - lo)
-    if kind == "normal":
-        return stats.norm.ppf(u, loc=dist["mean"], scale=dist["sd"])
-    if kind == "lognormal":
-        return dist["median"] * np.exp(np.log(dist["gsd"]) * stats.norm.ppf(u))
-    raise AssertionError(kind)  # pragma: no cover
-
-
 def sample_cases(scenario: Scenario, n: int, seed: int | None, lhs: bool = False):
-    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, warnings about clipped samples)."""
-    unc = scenario.uncertainty
-    label = scenario.path or scenario.name
-    if not unc:
-        raise InputError(f"{label}: uncertainty: --samples needs an [uncertainty] section with at least one key")
+    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, notes). Values come from each key's
+    distribution truncated to its valid range, with the ``[correlation]`` rank correlations, and shared inputs added
+    (:mod:`compare.uncertainty`); the notes say which distributions were truncated and which inputs are shared."""
+    from . import uncertainty as unc
+    keys, specs = uncertain_specs(scenario)
     if n < 1:
         raise InputError(f"--samples: expected a number of samples of 1 or more, got {n}")
-    keys = sorted(unc)
-    specs = {k: _spec(k, f"{label}: uncertainty.{k}") for k in keys}
     rng = np.random.default_rng(seed)
     if lhs:
         from scipy.stats import qmc
@@ -184,23 +166,16 @@ def sample_cases(scenario: Scenario, n: int, seed: int | None, lhs: bool = False
     else:
         u = rng.random((n, len(keys)))
     u = np.clip(u, 1e-12, 1 - 1e-12)
-    out, warnings = {}, []
-    for j, k in enumerate(keys):
-        x = _ppf(unc[k], u[:, j])
-        spec = specs[k]
-        lo = -np.inf if spec.lo is None else spec.lo
-        hi = np.inf if spec.hi is None else spec.hi
-        eps_lo = abs(lo) * 1e-9 + 1e-12 if spec.lo_open else 0.0
-        eps_hi = abs(hi) * 1e-9 + 1e-12 if spec.hi_open else 0.0
-        bad = (x < lo + eps_lo) | (x > hi - eps_hi)
-        if bad.any():
-            warnings.append(f"uncertainty.{k}: {int(bad.sum())} of {n} samples fell outside the key's valid range "
-                            f"and were clipped to it")
-            x = np.clip(x, lo + eps_lo, hi - eps_hi)
-        if spec.kind == "count":
-            x = np.round(x)
-        out[k] = x
-    return out, warnings
+    return unc.cases_from_uniforms(scenario, u, specs), unc.notes(scenario, specs)
+
+
+def uncertain_specs(scenario: Scenario) -> tuple[list, dict]:
+    """The sorted ``[uncertainty]`` keys and their specs (an input error when there are none)."""
+    label = scenario.path or scenario.name
+    if not scenario.uncertainty:
+        raise InputError(f"{label}: uncertainty: --samples needs an [uncertainty] section with at least one key")
+    keys = sorted(scenario.uncertainty)
+    return keys, {k: _spec(k, f"{label}: uncertainty.{k}") for k in keys}
 
 
 # ---------------------------------------------------------------------------------------------- evaluation
@@ -395,8 +370,8 @@ def ranking(sr: SweepResult) -> list[dict]:
     return out
 
 
-def payload(sr: SweepResult) -> dict:
-    """The JSON summary of DESIGN's contract."""
+def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
+    """The JSON summary of DESIGN's contract (with a ``sensitivity`` section when one was computed)."""
     from .present import CAUTION
     body = {"scenario": sr.scenario.name, "cases": sr.n, "mode": sr.mode, "varied": list(sr.cases),
             "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "flags": sr.flags,
@@ -405,7 +380,11 @@ def payload(sr: SweepResult) -> dict:
         body["grid"] = [{"key": a.key, "unit": a.unit, "values": a.display.tolist()} for a in sr.axes]
     else:
         body["sampling"] = {"seed": sr.seed, "latin_hypercube": sr.lhs,
-                            "distributions": sr.scenario.uncertainty}
+                            "distributions": sr.scenario.uncertainty,
+                            "rank_correlations": [{"keys": list(p), "rho": r}
+                                                  for p, r in sorted(sr.scenario.correlation.items())]}
+    if sensitivity is not None:
+        body["sensitivity"] = sensitivity
     return body
 
 

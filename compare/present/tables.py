@@ -184,7 +184,45 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
                          at or "-"])
         out.append(("where first place changes along the grid", ["criterion", "change", "at", "other keys"],
                     rows or [["-", "no change along the grid", "-", "-"]]))
+    if body.get("sensitivity"):
+        out += sensitivity_sections(body["sensitivity"], body)
     return out
+
+
+def _interval(row: dict, name: str) -> str:
+    if row.get(name) is None:
+        return "-"
+    return f"{row[name]:.2f} ({row[name + '_low']:.2f} to {row[name + '_high']:.2f})"
+
+
+def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], list[list]]]:
+    """Sobol indices of the levelized cost per technology and key, and the key with the largest total index for
+    every metric; or the tornado of the levelized cost (each key at its p10 and p90, the others at medians)."""
+    cost_unit = next((r["unit"] for r in body["summary"] if r["metric"] == "levelized_cost_per_m3"), "")
+    if sens["method"] == "sobol":
+        rows = [[r["technology"], r["key"], _interval(r, "first"), _interval(r, "total"), r["samples"]]
+                for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"]
+        out = [(f"Sobol indices of the levelized cost, 95 % intervals ({sens['base_samples']} base samples, "
+                f"{sens['evaluations']} evaluations)", ["technology", "key", "first order", "total", "rows used"],
+                rows)]
+        top = []
+        for (t, m) in dict.fromkeys((r["technology"], r["metric"]) for r in sens["rows"]):
+            rs = [r for r in sens["rows"] if r["technology"] == t and r["metric"] == m and r["total"] is not None]
+            if rs:
+                best = max(rs, key=lambda r: r["total"])
+                top.append([t, {**SWEEP_METRICS, "feasible": "feasibility"}.get(m, m), best["key"], _interval(best, "total")])
+            else:
+                top.append([t, {**SWEEP_METRICS, "feasible": "feasibility"}.get(m, m), "-", "no variation (or too few feasible rows)"])
+        out.append(("the key with the largest total Sobol index", ["technology", "metric", "key", "total index"], top))
+        return out
+    rows = []
+    for r in sorted((r for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"),
+                    key=lambda r: (r["technology"], -abs((r["at_high"] or 0) - (r["at_low"] or 0)))):
+        swing = None if r["at_low"] is None or r["at_high"] is None else r["at_high"] - r["at_low"]
+        rows.append([r["technology"], f"{r['key']} {fmt_number(r['low'])} to {fmt_number(r['high'])} {r['unit']}",
+                     fmt_number(r["at_low"]), fmt_number(r["at_high"]), fmt_number(swing)])
+    return [(f"tornado: levelized cost [{cost_unit}] with each key at its p10 and p90, the others at their medians",
+             ["technology", "key (p10 to p90)", "cost at p10", "cost at p90", "swing"], rows)]
 
 
 def sweep_tables(console: Console, body: dict) -> None:
