@@ -306,6 +306,9 @@ def cmd_sweep(args) -> int:
             if parquet is not None:
                 parquet.close()
             folder.write("summary.json", to_json(body))
+            if mode == "grid":
+                import pandas as pd
+                folder.write("grid.csv", pd.DataFrame(sw.grid_points(result)).to_csv(index=False))
             folder.write("report.md", sweep_markdown(body))
             folder.write("run.json", to_json(run_record([scenario], ["desal", *args.argv])))
             if args.plot:
@@ -327,7 +330,9 @@ def cmd_sweep(args) -> int:
     elif args.format == "markdown":
         sys.stdout.write(sweep_markdown(body))
     else:
-        sweep_tables(_console(), body)
+        from rich.console import Console
+        # piped output is not cut at 80 columns: a sweep's tables are wide
+        sweep_tables(Console(highlight=False, width=None if sys.stdout.isatty() else 160), body)
     if saved is not None:
         print(f"saved: {saved}", file=sys.stderr)
     return 0

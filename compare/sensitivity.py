@@ -106,10 +106,18 @@ def sobol_indices(y: np.ndarray, n: int, d: int, seed: int | None) -> dict | Non
         first, total = _saltelli(fA[i], fB[i], fAB[:, i])      # (d, ...) each
         return np.concatenate([first, total], axis=0)
 
-    with np.errstate(divide="ignore", invalid="ignore"):
+    import warnings
+    with np.errstate(divide="ignore", invalid="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore")
         boot = stats.bootstrap((np.arange(m),), statistic, vectorized=True, n_resamples=999, batch=100,
                                confidence_level=0.95, method="BCa", rng=np.random.default_rng(seed))
-    lo, hi = boot.confidence_interval.low, boot.confidence_interval.high
+        lo, hi = boot.confidence_interval.low, boot.confidence_interval.high
+        if not (np.all(np.isfinite(lo)) and np.all(np.isfinite(hi))):
+            # BCa is undefined where the resampled indices do not vary (a key with no effect at all): percentile
+            # intervals from the same resamples
+            dist = boot.bootstrap_distribution
+            lo = np.where(np.isfinite(lo), lo, np.nanpercentile(dist, 2.5, axis=-1))
+            hi = np.where(np.isfinite(hi), hi, np.nanpercentile(dist, 97.5, axis=-1))
     return {"first": np.atleast_1d(res.first_order).ravel(), "total": np.atleast_1d(res.total_order).ravel(),
             "first_low": lo[:d], "first_high": hi[:d], "total_low": lo[d:], "total_high": hi[d:], "samples": m}
 

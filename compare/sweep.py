@@ -200,6 +200,43 @@ class SweepResult:
     def n(self) -> int:
         return int(self.floor.size)
 
+    def to_frame(self):
+        """The cases as a pandas DataFrame: a row per (case, technology), the varied keys (SI, named as the keys),
+        ``feasible``, the headline metrics under their record names (record units; NaN where infeasible) and the
+        floor."""
+        import pandas as pd
+        frames = []
+        for t in self.technologies:
+            cols = {"case": np.arange(self.n), **{k: np.asarray(v) for k, v in self.cases.items()},
+                    "technology": t, "feasible": self.feasible[t]}
+            cols.update({METRICS[m][0]: v for m, v in self.metrics[t].items()})
+            cols["floor_least_work_kwh_per_m3"] = self.floor
+            frames.append(pd.DataFrame(cols))
+        return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+
+    def to_dataset(self):
+        """A grid as an xarray Dataset: dimensions the varied keys (coordinates in their display units, as the grid
+        was given) and ``technology``; one variable per headline metric (record names and units) and ``feasible``,
+        and the floor over the grid. Needs the optional extra ``xarray``."""
+        if self.mode != "grid":
+            raise ValueError("to_dataset: expected a grid sweep (use to_frame for samples)")
+        try:
+            import xarray as xr
+        except ImportError:
+            raise ImportError("to_dataset needs xarray: pip install 'desal-compare[xarray]'") from None
+        shape = tuple(a.values.size for a in self.axes)
+        dims = [a.key for a in self.axes] + ["technology"]
+        coords = {a.key: (a.key, a.display, {"units": a.unit}) for a in self.axes}
+        coords["technology"] = list(self.technologies)
+        data = {}
+        for m, (name, unit) in METRICS.items():
+            arr = np.stack([self.metrics[t][m].reshape(shape) for t in self.technologies], axis=-1)
+            data[name] = (dims, arr, {"units": unit.format(currency=self.scenario.currency)})
+        data["feasible"] = (dims, np.stack([self.feasible[t].reshape(shape) for t in self.technologies], axis=-1))
+        data["floor_least_work_kwh_per_m3"] = (dims[:-1], self.floor.reshape(shape), {"units": "kWh/m3"})
+        return xr.Dataset(data, coords=coords, attrs={"scenario": self.scenario.name,
+                                                      "currency": self.scenario.currency})
+
 
 def default_chunk(scenario: Scenario) -> int:
     """Cases per chunk: about 20,000 technology evaluations, divided by the number of periods (12 for monthly)."""
@@ -293,7 +330,62 @@ def _stats(x: np.ndarray, grid: bool) -> dict:
     if grid:
         out["min"] = float(ok.min()) if ok.size else None
         out["max"] = float(ok.max()) if ok.size else None
+    elif ok.size:
+        out["ci"] = {f"p{int(q * 100)}": percentile_interval(ok, q) for q in (0.1, 0.5, 0.9)}
     return out
+
+
+def percentile_interval(x: np.ndarray, q: float, level: float = 0.95) -> list:
+    """A distribution-free confidence interval of the ``q`` quantile from order statistics: the sorted samples
+    ``x_(l)`` and ``x_(u)`` with ``l``, ``u`` the binomial(n, q) quantiles at (1 - level)/2 and (1 + level)/2
+    (Conover 1999, Practical Nonparametric Statistics, 3rd ed., section 3.2). An end beyond the sample is None:
+    too few samples to bound the quantile on that side."""
+    from scipy.stats import binom
+    xs = np.sort(np.asarray(x, dtype=float))
+    n = xs.size
+    lo = int(binom.ppf((1 - level) / 2, n, q))          # 1-based rank of the lower bound
+    hi = int(binom.ppf((1 + level) / 2, n, q)) + 1      # 1-based rank of the upper bound
+    return [float(xs[lo - 1]) if lo >= 1 else None, float(xs[hi - 1]) if hi <= n else None]
+
+
+def wilson(k: int, n: int, z: float = 1.959964) -> list:
+    """The Wilson score interval (95 %) of a binomial share k/n (Wilson 1927, "Probable inference, the law of
+    succession, and statistical inference", J. Am. Stat. Assoc. 22, 209-212)."""
+    if n == 0:
+        return [0.0, 1.0]
+    p = k / n
+    centre = (p + z * z / (2 * n)) / (1 + z * z / n)
+    half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
+    return [float(max(0.0, centre - half)), float(min(1.0, centre + half))]
+
+
+def separation(shares: dict, intervals: dict, n: int, criterion: str) -> dict:
+    """Whether the samples separate the two technologies most often first on ``criterion``, in plain words, with
+    the number of samples that would separate shares this far apart (non-overlapping Wilson intervals, normal
+    approximation)."""
+    ranked = sorted((t for t in shares if t != "none feasible"), key=lambda t: -shares[t])
+    pct = lambda t: f"{shares[t]:.0%} ({intervals[t][0]:.0%} to {intervals[t][1]:.0%})"  # noqa: E731
+    if not ranked or shares[ranked[0]] == 0:
+        return {"separated": False, "statement": f"no technology is feasible in any sample on {criterion}"}
+    a = ranked[0]
+    if len(ranked) == 1 or shares[ranked[1]] == 0:
+        return {"first": a, "separated": True,
+                "statement": f"{a.upper()} ranks first on {criterion} in {pct(a)} of samples; no other technology "
+                             f"ranks first in any"}
+    b = ranked[1]
+    if intervals[a][0] > intervals[b][1]:
+        return {"first": a, "second": b, "separated": True,
+                "statement": f"{a.upper()} ranks first on {criterion} in {pct(a)} of samples, ahead of {b.upper()} "
+                             f"in {pct(b)} (95 % intervals)"}
+    pa, pb = shares[a], shares[b]
+    need = None
+    if pa > pb:
+        need = int(np.ceil((1.959964 * (np.sqrt(pa * (1 - pa)) + np.sqrt(pb * (1 - pb))) / (pa - pb)) ** 2))
+    more = (f"; about {need:,} samples would separate shares this far apart" if need else
+            "; more samples will not separate equal shares")
+    return {"first": a, "second": b, "separated": False, "samples_needed": need,
+            "statement": f"{n:,} samples cannot separate {a.upper()} and {b.upper()} on {criterion}: first in "
+                         f"{pct(a)} and {pct(b)} of samples, and the 95 % intervals overlap{more}"}
 
 
 def summary(sr: SweepResult) -> list[dict]:
@@ -354,20 +446,42 @@ def break_even(sr: SweepResult, criterion: str) -> list[dict]:
 
 
 def ranking(sr: SweepResult) -> list[dict]:
-    """Per criterion: the share of cases each technology ranks first (and none), per-case first places for grids of
-    up to 10,000 points, and the break-even points along the grid."""
+    """Per criterion: the share of cases each technology ranks first (and none); for samples, the 95 % Wilson
+    interval of each share and whether the two leading technologies are told apart; for grids, per-case first
+    places (up to 10,000 points) and the break-even points along the grid."""
     out = []
     for crit in RANK_BY:
         fp = first_place(sr, crit)
-        share = {t: float(np.mean(fp == i)) for i, t in enumerate(sr.technologies)}
-        share["none feasible"] = float(np.mean(fp < 0))
+        counts = {t: int(np.sum(fp == i)) for i, t in enumerate(sr.technologies)}
+        counts["none feasible"] = int(np.sum(fp < 0))
+        share = {t: c / max(1, sr.n) for t, c in counts.items()}
         entry = {"criterion": crit, "metric": METRICS[RANK_BY[crit]][0], "first_share": share}
         if sr.mode == "grid":
             if sr.n <= 10000:
                 entry["first_by_case"] = [sr.technologies[i] if i >= 0 else None for i in fp]
             entry["changes"] = break_even(sr, crit)
+        else:
+            entry["first_share_ci"] = {t: wilson(c, sr.n) for t, c in counts.items()}
+            entry["separation"] = separation(share, entry["first_share_ci"], sr.n, crit)
         out.append(entry)
     return out
+
+
+def grid_points(sr: SweepResult) -> list[dict]:
+    """One row per grid point: the varied keys in their units, each technology's levelized cost and work
+    equivalent (None where infeasible), and the first place on cost, energy and emissions."""
+    firsts = {c: first_place(sr, c) for c in RANK_BY}
+    rows = []
+    for i in range(sr.n):
+        row = {a.key: float(a.show(sr.cases[a.key][i])) for a in sr.axes}
+        for t in sr.technologies:
+            for m in ("lcow", "work_equivalent"):
+                v = sr.metrics[t][m][i]
+                row[f"{t}.{METRICS[m][0]}"] = float(v) if np.isfinite(v) else None
+        for c, fp in firsts.items():
+            row[f"first_on_{c}"] = sr.technologies[fp[i]] if fp[i] >= 0 else None
+        rows.append(row)
+    return rows
 
 
 def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
@@ -378,6 +492,8 @@ def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
             "notice": CAUTION}
     if sr.mode == "grid":
         body["grid"] = [{"key": a.key, "unit": a.unit, "values": a.display.tolist()} for a in sr.axes]
+        if sr.n <= 10000:
+            body["grid_points"] = grid_points(sr)
     else:
         body["sampling"] = {"seed": sr.seed, "latin_hypercube": sr.lhs,
                             "distributions": sr.scenario.uncertainty,

@@ -191,7 +191,9 @@ def _key_words(sens: dict, key: str, rows: list) -> str:
     r = next((r for r in rows if r["key"] == key), None)
     if r is None or "low" not in r:
         return key_label(key)
-    return f"{key_label(key)}\n{r['low']:.3g} to {r['high']:.3g} {r['unit']}"
+    from .tables import fmt_number
+    unit = "" if r["unit"] == "-" else f" {r['unit']}"
+    return f"{key_label(key)}\n{fmt_number(r['low'], 3)} to {fmt_number(r['high'], 3)}{unit}"
 
 
 def tornado_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per_m3") -> list[str]:
@@ -200,11 +202,12 @@ def tornado_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_p
     plt = _plt()
     techs = list(dict.fromkeys(r["technology"] for r in sens["rows"]))
     rows = [r for r in sens["rows"] if r["metric"] == metric]
-    d = len(sens["keys"])
-    fig, axes = plt.subplots(len(techs), 1, figsize=(9, 1.2 + 0.55 * d * len(techs) + 0.6 * len(techs)),
-                             sharex=True, squeeze=False)
+    kept = {t: [r for r in rows if r["technology"] == t and r["at_low"] != r["at_high"]] for t in techs}
+    heights = [max(1, len(kept[t])) for t in techs]          # keys with no effect on a technology are left out
+    fig, axes = plt.subplots(len(techs), 1, figsize=(9, 1.5 + 0.6 * sum(heights) + 0.5 * len(techs)),
+                             sharex=True, squeeze=False, gridspec_kw={"height_ratios": heights})
     for t, ax in zip(techs, axes[:, 0]):
-        rs = [r for r in rows if r["technology"] == t]
+        rs = list(kept[t])
         rs.sort(key=lambda r: abs((r["at_high"] or 0) - (r["at_low"] or 0)))
         base = next((r["base"] for r in rs if r["base"] is not None), None)
         if base is None:
@@ -226,7 +229,9 @@ def tornado_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_p
         ax.grid(axis="x", alpha=0.3)
     axes[0, 0].legend(fontsize=8, loc="lower right")
     axes[-1, 0].set_xlabel(metric_label(metric, scenario.currency))
-    fig.suptitle(f"{scenario.name}: what moves the {metric_label(metric, scenario.currency).split(' [')[0]}")
+    fig.suptitle(f"{scenario.name}: what moves the {metric_label(metric, scenario.currency).split(' [')[0]}\n"
+                 "(each key at its 10th and 90th percentile, the others at their medians; keys with no effect left "
+                 "out)", fontsize=11)
     fig.tight_layout()
     _caption(fig)
     names = _save(fig, folder, "tornado")
@@ -239,14 +244,18 @@ def sobol_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per
     on one 0-1 axis shared by the panels."""
     plt = _plt()
     techs = list(dict.fromkeys(r["technology"] for r in sens["rows"]))
-    keys = sens["keys"]
-    d = len(keys)
-    fig, axes = plt.subplots(len(techs), 1, figsize=(9, 1.2 + 0.5 * d * len(techs) + 0.6 * len(techs)),
-                             sharex=True, squeeze=False)
+    rows = {t: {r["key"]: r for r in sens["rows"] if r["technology"] == t and r["metric"] == metric} for t in techs}
+
+    def matters(r):        # a key whose total index or its interval's upper end reaches 1 %
+        return r["total"] is not None and max(r["total"], r["total_high"] or 0) >= 0.01
+    kept = {t: [k for k in sens["keys"] if matters(rows[t][k])] for t in techs}
+    heights = [max(1, len(kept[t])) for t in techs]
+    fig, axes = plt.subplots(len(techs), 1, figsize=(9, 1.5 + 0.55 * sum(heights) + 0.5 * len(techs)),
+                             sharex=True, squeeze=False, gridspec_kw={"height_ratios": heights})
     for t, ax in zip(techs, axes[:, 0]):
-        rs = {r["key"]: r for r in sens["rows"] if r["technology"] == t and r["metric"] == metric}
-        order = sorted(keys, key=lambda k: rs[k]["total"] if rs[k]["total"] is not None else -1)
-        y = np.arange(d)
+        rs = rows[t]
+        order = sorted(kept[t], key=lambda k: rs[k]["total"])
+        y = np.arange(len(order))
         for off, which, c, lab in ((0.18, "total", "#4c72b0", "total (with interactions)"),
                                    (-0.18, "first", "#8fb0d9", "first order (alone)")):
             v = np.array([np.nan if rs[k][which] is None else rs[k][which] for k in order])
@@ -260,11 +269,13 @@ def sobol_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per
         ax.set_title(f"{t.upper()} ({n} base rows used)" if n else f"{t.upper()}: no variation or too few feasible "
                      "rows", fontsize=10, loc="left")
         ax.grid(axis="x", alpha=0.3)
-        ax.set_xlim(-0.05, 1.1)
+        ax.set_xlim(-0.05, 1.2)
+        ax.axvline(1.0, color="0.6", lw=0.8)
     axes[0, 0].legend(fontsize=8, loc="lower right")
-    axes[-1, 0].set_xlabel(f"share of the variance of the {metric_label(metric, scenario.currency)} "
-                           "(bars: estimate; whiskers: 95 % interval)")
-    fig.suptitle(f"{scenario.name}: Sobol indices ({sens['base_samples']} base samples)")
+    words = metric_label(metric, scenario.currency).split(" [")[0]
+    axes[-1, 0].set_xlabel(f"share of the variance of the {words} (bars: estimate; whiskers: 95 % interval)")
+    fig.suptitle(f"{scenario.name}: which uncertain inputs drive the {words}\n(Sobol indices, "
+                 f"{sens['base_samples']} base samples; keys below 1 % left out)", fontsize=11)
     fig.tight_layout()
     _caption(fig)
     names = _save(fig, folder, "sobol")
