@@ -273,7 +273,7 @@ def sweep_context(sweep: dict) -> dict:
 
 
 # ------------------------------------------------------------------------------------------------------ render
-def energy_figure(payload: dict, width: int = 460) -> str:
+def energy_figure(payload: dict, width: int = 400) -> str:
     recs = payload["results"]
     rows = []
     for r in recs:
