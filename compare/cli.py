@@ -255,19 +255,31 @@ def cmd_sweep(args) -> int:
         raise InputError(f"--workers: expected a number of worker processes of 1 or more, got {args.workers}")
     if args.workers is not None and args.scheduler:
         raise InputError("--workers and --scheduler: expected one of them, got both")
+    if args.sensitivity and args.samples is None:
+        raise InputError(f"--sensitivity {args.sensitivity}: expected --samples N (the Monte Carlo it analyses), "
+                         "got a grid")
+    if args.sensitivity == "sobol" and args.lhs:
+        raise InputError("--lhs: --sensitivity sobol draws its own design (Sobol points); expected no --lhs, got it")
     scenario = _load_all([args.scenario], args.set or [])[0]
     if args.vary:
         axes = [sw.parse_vary(v, scenario) for v in args.vary]
-        source, mode = sw.grid(axes), "grid"
+        source, mode, notes = sw.grid(axes), "grid", []
     else:
         axes = []
-        source, mode = sw.sampler(scenario, args.samples, args.seed, args.lhs), "samples"
+        if args.sensitivity == "sobol":
+            from .sensitivity import sobol_cases
+            cases, _, notes = sobol_cases(scenario, args.samples, args.seed)
+            source = sw.Given(cases)
+        else:
+            source = sw.sampler(scenario, args.samples, args.seed, args.lhs)
+            notes = sw.sampling_notes(scenario)
+        mode = "samples"
     from .scenario import reach_errors
     label = scenario.path or scenario.name
     n = source.n
     chunk = args.chunk or sw.default_chunk(scenario)
     for start in range(0, n, max(chunk, 100_000)):          # values beyond the models' reach, before any work
-        part = source.draw(start, min(n, start + max(chunk, 100_000)))[0]
+        part = source.draw(start, min(n, start + max(chunk, 100_000)))
         problems = reach_errors(scenario.values, lambda d: (f"--vary {d}" if mode == "grid" else
                                                             f"{label}: uncertainty.{d}") if d in part
                                 else f"{label}: {d}", scenario.texts, varied=part)
@@ -299,18 +311,28 @@ def cmd_sweep(args) -> int:
         with _progress(n, quiet=args.quiet) as progress:
             result = sw.run(scenario, source, mode=mode, chunk=chunk, progress=progress,
                             sink=sink if (folder is not None or frames is not None) else None, axes=axes,
-                            seed=args.seed if mode == "samples" else None, lhs=args.lhs, executor=executor)
-        body = sw.payload(result)
+                            warnings=notes, seed=args.seed if mode == "samples" else None, lhs=args.lhs,
+                            executor=executor)
+        sensitivity = None
+        if args.sensitivity:
+            from .sensitivity import analyse
+            sensitivity, result = analyse(args.sensitivity, scenario, result, args.samples, args.seed, args.chunk)
+        body = sw.payload(result, sensitivity)
         saved = None
         if folder is not None:
             if csv_file is not None:
                 csv_file.close()
             folder.write("summary.json", to_json(body))
+            if mode == "grid":
+                import pandas as pd
+                folder.write("grid.csv", pd.DataFrame(sw.grid_points(result)).to_csv(index=False))
             folder.write("report.md", sweep_markdown(body))
             folder.write("run.json", to_json(run_record([scenario], ["desal", *args.argv])))
             if args.plot:
                 from .present import plots
                 (plots.grid_figure if mode == "grid" else plots.samples_figure)(result, folder)
+                if sensitivity is not None:
+                    plots.sensitivity_figure(sensitivity, scenario, folder)
             saved = folder.commit()
     finally:
         executor.close()
@@ -326,7 +348,9 @@ def cmd_sweep(args) -> int:
     elif args.format == "markdown":
         sys.stdout.write(sweep_markdown(body))
     else:
-        sweep_tables(_console(), body)
+        from rich.console import Console
+        # piped output is not cut at 80 columns: a sweep's tables are wide
+        sweep_tables(Console(highlight=False, width=None if sys.stdout.isatty() else 160), body)
     if saved is not None:
         print(f"saved: {saved}", file=sys.stderr)
     return 0
@@ -561,6 +585,10 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--samples", type=int, metavar="N", help="N Monte Carlo samples of the [uncertainty] section")
     w.add_argument("--seed", type=int, default=20261201, help="seed of the random generator (default 20261201)")
     w.add_argument("--lhs", action="store_true", help="Latin hypercube sampling instead of plain random sampling")
+    w.add_argument("--sensitivity", choices=("sobol", "tornado"),
+                   help="with --samples: Sobol indices (first-order and total, 95 %% intervals; N a power of two, "
+                        "N (d + 2) evaluations for d uncertain keys) or a tornado (each key at its p10 and p90, the "
+                        "others at their medians) of cost, work equivalent and emissions")
     w.add_argument("--chunk", type=int, metavar="N", help="cases per vectorised chunk (default about 20000 "
                                                           "technology evaluations)")
     w.add_argument("--workers", type=int, metavar="N", help="evaluate chunks in N worker processes (same results)")

@@ -98,6 +98,7 @@ class Scenario:
     overrides: tuple[str, ...] = ()
     uncertainty: dict = field(default_factory=dict)
     claims: tuple = ()      # the [claim] entries, each a dict from parse_claims
+    correlation: dict = field(default_factory=dict)   # {(key_a, key_b): rank correlation}, key_a < key_b
 
     @property
     def currency(self) -> str:
@@ -200,6 +201,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
         name = None
     uncertainty_raw = data.pop("uncertainty", {})
     claims_raw = data.pop("claim", None)
+    correlation_raw = data.pop("correlation", None)
 
     for sec, body in data.items():
         if sec not in specs:
@@ -259,13 +261,18 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
         errors += reach_errors(values, lambda dotted: (f"--set {dotted}" if sources.get(dotted) == "--set"
                                                        else f"{label}: {dotted}"), texts)
     uncertainty = _uncertainty(uncertainty_raw, specs, label, errors, ctx)
+    correlation = {}
+    if correlation_raw is not None:
+        from .uncertainty import parse_correlation
+        correlation = parse_correlation(correlation_raw, list(uncertainty_raw) if isinstance(uncertainty_raw, dict)
+                                        else [], label, errors)
     claims = parse_claims(claims_raw, label, errors, technologies=[s for s in specs if s not in SITE_SECTIONS]) \
         if claims_raw is not None else ()
     if errors:
         raise InputErrors(errors)
     if not name:
         name = Path(path).stem if path else "scenario"
-    return Scenario(name, path, sha256, values, sources, texts, tuple(overrides), uncertainty, claims)
+    return Scenario(name, path, sha256, values, sources, texts, tuple(overrides), uncertainty, claims, correlation)
 
 
 def _cross_checks(values, label, errors):

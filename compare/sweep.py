@@ -11,8 +11,9 @@ units as in a scenario file. Several grids give the Cartesian product; the first
 
 Monte Carlo: the scenario's ``[uncertainty]`` entries (triangular, uniform, normal, lognormal), sampled by
 inverse-transform of uniforms from a seeded ``numpy.random.Generator``, or with Latin hypercube uniforms
-(``scipy.stats.qmc.LatinHypercube``) when asked. Samples outside a key's valid range are clipped to it and counted
-(reported as warnings); counts are rounded.
+(``scipy.stats.qmc.LatinHypercube``) when asked, then mapped to values by :mod:`compare.uncertainty`: each
+distribution truncated to its key's valid range (nothing is clipped), rank correlations of ``[correlation]`` through a
+Gaussian copula, and shared physical inputs; counts are rounded.
 """
 
 from __future__ import annotations
@@ -155,27 +156,10 @@ def parse_vary(text: str, scenario: Scenario) -> Axis:
 def grid_cases(axes: list[Axis]) -> dict[str, np.ndarray]:
     """The Cartesian product of the axes, the first varying slowest: key -> (N,) SI values."""
     g = grid(axes)
-    return g.draw(0, g.n)[0]
+    return g.draw(0, g.n)
 
 
 # ---------------------------------------------------------------------------------------------- Monte Carlo
-def _ppf(dist: dict, u: np.ndarray) -> np.ndarray:
-    from scipy import stats
-    kind = dist["distribution"]
-    if kind == "uniform":
-        return dist["low"] + u * (dist["high"] - dist["low"])
-    if kind == "triangular":
-        lo, mode, hi = dist["low"], dist["mode"], dist["high"]
-        if hi == lo:
-            return np.full_like(u, lo)
-        return stats.triang.ppf(u, (mode - lo) / (hi - lo), loc=lo, scale=hi - lo)
-    if kind == "normal":
-        return stats.norm.ppf(u, loc=dist["mean"], scale=dist["sd"])
-    if kind == "lognormal":
-        return dist["median"] * np.exp(np.log(dist["gsd"]) * stats.norm.ppf(u))
-    raise AssertionError(kind)  # pragma: no cover
-
-
 def _uniforms(entropy: int, start: int, stop: int, d: int) -> np.ndarray:
     """Rows ``start:stop`` of the (n, d) matrix of uniforms that one seeded stream gives in order: the PCG64 stream
     of ``entropy`` advanced to position ``start * d`` (one 64-bit draw per double), so a row depends on its index and
@@ -200,38 +184,13 @@ def _strata(entropy: int, n: int, d: int) -> np.ndarray:
     return _STRATA[key]
 
 
-def _clip_to_spec(spec: Spec, x: np.ndarray):
-    """Values clipped into the key's valid range and how many were outside it."""
-    lo = -np.inf if spec.lo is None else spec.lo
-    hi = np.inf if spec.hi is None else spec.hi
-    eps_lo = abs(lo) * 1e-9 + 1e-12 if spec.lo_open else 0.0
-    eps_hi = abs(hi) * 1e-9 + 1e-12 if spec.hi_open else 0.0
-    bad = (x < lo + eps_lo) | (x > hi - eps_hi)
-    count = int(np.count_nonzero(bad))
-    if count:
-        x = np.clip(x, lo + eps_lo, hi - eps_hi)
-    return x, count
-
-
-def values_from_uniforms(unc: dict, specs: dict, keys, u: np.ndarray):
-    """Case values from uniforms (rows: cases, columns: ``keys``) through each distribution's inverse CDF: (key ->
-    values, key -> how many were outside the key's range)."""
-    u = np.clip(u, 1e-12, 1 - 1e-12)
-    out, outside = {}, {}
-    for j, k in enumerate(keys):
-        x, outside[k] = _clip_to_spec(specs[k], _ppf(unc[k], u[:, j]))
-        if specs[k].kind == "count":
-            x = np.round(x)
-        out[k] = x
-    return out, outside
-
-
 @dataclass(frozen=True)
 class Samples:
-    """Monte Carlo cases as a function of their index: case i takes row i of one seeded stream of uniforms
-    (Latin hypercube: its stratum in each dimension plus that row), whatever chunk draws it."""
+    """Monte Carlo cases as a function of their index: case i takes row i of one seeded stream of uniforms (Latin
+    hypercube: its stratum in each dimension plus that row), whatever chunk draws it; the uniforms become values
+    through :func:`compare.uncertainty.cases_from_uniforms` (correlation, truncation, shared inputs), row by row."""
 
-    uncertainty: dict
+    scenario: Scenario
     specs: dict
     keys: tuple
     n: int
@@ -239,16 +198,17 @@ class Samples:
     lhs: bool = False
 
     def draw(self, start: int, stop: int):
-        """Cases ``start:stop``: (key -> values, key -> how many were outside the key's range)."""
+        """Cases ``start:stop``: key -> values."""
+        from . import uncertainty as unc
         d = len(self.keys)
         u = _uniforms(self.entropy, start, stop, d)
         if self.lhs:
             u = (_strata(self.entropy, self.n, d)[start:stop] + u) / self.n
-        return values_from_uniforms(self.uncertainty, self.specs, self.keys, u)
+        u = np.clip(u, 1e-12, 1 - 1e-12)
+        return unc.cases_from_uniforms(self.scenario, u, self.specs)
 
-    def warnings(self, outside: dict) -> list[str]:
-        return [f"uncertainty.{k}: {c} of {self.n} samples fell outside the key's valid range and were clipped to it"
-                for k, c in outside.items() if c]
+    def part(self, start: int, stop: int):
+        return self
 
 
 @dataclass(frozen=True)
@@ -264,17 +224,18 @@ class Grid:
 
     def draw(self, start: int, stop: int):
         idx = np.unravel_index(np.arange(start, stop), tuple(v.size for v in self.values))
-        return {k: v[i] for k, v, i in zip(self.keys, self.values, idx)}, {}
+        return {k: v[i] for k, v, i in zip(self.keys, self.values, idx)}
 
-    def warnings(self, outside: dict) -> list[str]:
-        return []
+    def part(self, start: int, stop: int):
+        return self
 
 
 @dataclass(frozen=True)
 class Given:
-    """Cases given as arrays (key -> (N,) SI values)."""
+    """Cases given as arrays (key -> (N,) SI values); ``offset`` is the index of the first (a task's slice)."""
 
     cases: dict
+    offset: int = 0
 
     @property
     def keys(self) -> tuple:
@@ -285,24 +246,28 @@ class Given:
         return len(next(iter(self.cases.values())))
 
     def draw(self, start: int, stop: int):
-        return {k: np.asarray(v)[start:stop] for k, v in self.cases.items()}, {}
+        a, b = start - self.offset, stop - self.offset
+        return {k: np.asarray(v)[a:b] for k, v in self.cases.items()}
 
-    def warnings(self, outside: dict) -> list[str]:
-        return []
+    def part(self, start: int, stop: int):
+        """Only the cases of one chunk, so that a task carries its own slice and not every case."""
+        return Given({k: np.asarray(v)[start - self.offset:stop - self.offset] for k, v in self.cases.items()},
+                     start)
 
 
 def sampler(scenario: Scenario, n: int, seed: int | None, lhs: bool = False) -> Samples:
     """The :class:`Samples` of every ``[uncertainty]`` key (checked); ``seed`` None takes fresh entropy."""
-    unc = scenario.uncertainty
-    label = scenario.path or scenario.name
-    if not unc:
-        raise InputError(f"{label}: uncertainty: --samples needs an [uncertainty] section with at least one key")
+    keys, specs = uncertain_specs(scenario)
     if n < 1:
         raise InputError(f"--samples: expected a number of samples of 1 or more, got {n}")
-    keys = tuple(sorted(unc))
-    specs = {k: _spec(k, f"{label}: uncertainty.{k}") for k in keys}
     entropy = np.random.SeedSequence(seed).entropy
-    return Samples(unc, specs, keys, n, entropy, lhs)
+    return Samples(scenario, specs, tuple(keys), n, entropy, lhs)
+
+
+def sampling_notes(scenario: Scenario) -> list[str]:
+    """Which distributions were truncated and which inputs are shared (:func:`compare.uncertainty.notes`)."""
+    from . import uncertainty as unc
+    return unc.notes(scenario, uncertain_specs(scenario)[1])
 
 
 def grid(axes: list[Axis]) -> Grid:
@@ -313,10 +278,21 @@ def grid(axes: list[Axis]) -> Grid:
 
 
 def sample_cases(scenario: Scenario, n: int, seed: int | None, lhs: bool = False):
-    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, warnings about clipped samples)."""
+    """N samples of every ``[uncertainty]`` key: (key -> (N,) SI values, notes). Values come from each key's
+    distribution truncated to its valid range, with the ``[correlation]`` rank correlations, and shared inputs added
+    (:mod:`compare.uncertainty`); the notes say which distributions were truncated and which inputs are shared.
+    Sample i is the same whatever ``n`` and however the sweep cuts the samples into chunks (:class:`Samples`)."""
     plan = sampler(scenario, n, seed, lhs)
-    cases, outside = plan.draw(0, n)
-    return cases, plan.warnings(outside)
+    return plan.draw(0, n), sampling_notes(scenario)
+
+
+def uncertain_specs(scenario: Scenario) -> tuple[list, dict]:
+    """The sorted ``[uncertainty]`` keys and their specs (an input error when there are none)."""
+    label = scenario.path or scenario.name
+    if not scenario.uncertainty:
+        raise InputError(f"{label}: uncertainty: --samples needs an [uncertainty] section with at least one key")
+    keys = sorted(scenario.uncertainty)
+    return keys, {k: _spec(k, f"{label}: uncertainty.{k}") for k in keys}
 
 
 # ---------------------------------------------------------------------------------------------- evaluation
@@ -340,6 +316,43 @@ class SweepResult:
     @property
     def n(self) -> int:
         return int(self.floor.size)
+
+    def to_frame(self):
+        """The cases as a pandas DataFrame: a row per (case, technology), the varied keys (SI, named as the keys),
+        ``feasible``, the headline metrics under their record names (record units; NaN where infeasible) and the
+        floor."""
+        import pandas as pd
+        frames = []
+        for t in self.technologies:
+            cols = {"case": np.arange(self.n), **{k: np.asarray(v) for k, v in self.cases.items()},
+                    "technology": t, "feasible": self.feasible[t]}
+            cols.update({METRICS[m][0]: v for m, v in self.metrics[t].items()})
+            cols["floor_least_work_kwh_per_m3"] = self.floor
+            frames.append(pd.DataFrame(cols))
+        return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+
+    def to_dataset(self):
+        """A grid as an xarray Dataset: dimensions the varied keys (coordinates in their display units, as the grid
+        was given) and ``technology``; one variable per headline metric (record names and units) and ``feasible``,
+        and the floor over the grid. Needs the optional extra ``xarray``."""
+        if self.mode != "grid":
+            raise ValueError("to_dataset: expected a grid sweep (use to_frame for samples)")
+        try:
+            import xarray as xr
+        except ImportError:
+            raise ImportError("to_dataset needs xarray: pip install 'desal-compare[xarray]'") from None
+        shape = tuple(a.values.size for a in self.axes)
+        dims = [a.key for a in self.axes] + ["technology"]
+        coords = {a.key: (a.key, a.display, {"units": a.unit}) for a in self.axes}
+        coords["technology"] = list(self.technologies)
+        data = {}
+        for m, (name, unit) in METRICS.items():
+            arr = np.stack([self.metrics[t][m].reshape(shape) for t in self.technologies], axis=-1)
+            data[name] = (dims, arr, {"units": unit.format(currency=self.scenario.currency)})
+        data["feasible"] = (dims, np.stack([self.feasible[t].reshape(shape) for t in self.technologies], axis=-1))
+        data["floor_least_work_kwh_per_m3"] = (dims[:-1], self.floor.reshape(shape), {"units": "kWh/m3"})
+        return xr.Dataset(data, coords=coords, attrs={"scenario": self.scenario.name,
+                                                      "currency": self.scenario.currency})
 
 
 def default_chunk(scenario: Scenario) -> int:
@@ -368,7 +381,6 @@ class ChunkResult:
     start: int
     stop: int
     cases: dict
-    outside: dict
     floor: np.ndarray
     feasible: dict
     metrics: dict
@@ -383,7 +395,7 @@ def evaluate_chunk(task: ChunkTask) -> ChunkResult:
     from .tech.base import TECHNOLOGIES
     for name, tech in task.technologies.items():
         TECHNOLOGIES.setdefault(name, tech)
-    part, outside = task.source.draw(task.start, task.stop)
+    part = task.source.draw(task.start, task.stop)
     res = evaluate(task.scenario, varied=part)
     m = task.stop - task.start
     feasible, metrics = {}, {}
@@ -405,7 +417,7 @@ def evaluate_chunk(task: ChunkTask) -> ChunkResult:
     if task.units is not None:
         shown = {f"{k} [{task.units[k][0]}]": task.units[k][1](v) for k, v in part.items()}
         frame = case_frame(res, task.start, shown)
-    return ChunkResult(task.start, task.stop, part, outside, convert(res.floor.least_work_zero_recovery, "kWh/m3"),
+    return ChunkResult(task.start, task.stop, part, convert(res.floor.least_work_zero_recovery, "kWh/m3"),
                        feasible, metrics, counts, frame)
 
 
@@ -425,12 +437,13 @@ def run(scenario: Scenario, cases, *, mode: str, chunk: int | None = None, progr
     metrics = {t: {m: np.full(n, np.nan) for m in METRICS} for t in techs}
     feasible = {t: np.zeros(n, dtype=bool) for t in techs}
     floor = np.full(n, np.nan)
-    values = {k: np.empty(n) for k in source.keys}
+    keys = list(source.draw(0, min(n, 1)))           # shared inputs may add keys to the sampled ones
+    values = {k: np.empty(n) for k in keys}
     counts: dict = {}
-    outside: dict = {}
-    units = display_units(scenario, source.keys, axes) if sink is not None else None
+    units = display_units(scenario, keys, axes) if sink is not None else None
     registered = {t: TECHNOLOGIES[t] for t in techs}
-    tasks = (ChunkTask(scenario, registered, source, a, min(n, a + chunk), units) for a in range(0, n, chunk))
+    tasks = (ChunkTask(scenario, registered, source.part(a, min(n, a + chunk)), a, min(n, a + chunk), units)
+             for a in range(0, n, chunk))
     for r in ex.imap(executor or ex.Serial(), evaluate_chunk, tasks, in_flight):
         sl = slice(r.start, r.stop)
         floor[sl] = r.floor
@@ -443,15 +456,13 @@ def run(scenario: Scenario, cases, *, mode: str, chunk: int | None = None, progr
         for key, (c, first) in r.counts.items():
             old = counts.get(key, [0, first])
             counts[key] = [old[0] + c, min(old[1], first)]
-        for k, c in r.outside.items():
-            outside[k] = outside.get(k, 0) + c
         if sink is not None:
             sink(r.frame)
         if progress is not None:
             progress(r.stop, n)
     # in the order of the first case each flag holds in (whatever the chunks), then of the layers
     order = sorted(counts, key=lambda key: counts[key][1])
-    notes = list(warnings or []) + source.warnings(outside)
+    notes = list(warnings or [])
     notes += [f"{key[3]} (in {counts[key][0]} of {n} cases)" for key in order]
     flags = [{"kind": k, "code": code, "model": model, "message": msg, "cases": counts[(k, code, model, msg)][0]}
              for (k, code, model, msg) in order]
@@ -523,7 +534,62 @@ def _stats(x: np.ndarray, grid: bool) -> dict:
     if grid:
         out["min"] = float(ok.min()) if ok.size else None
         out["max"] = float(ok.max()) if ok.size else None
+    elif ok.size:
+        out["ci"] = {f"p{int(q * 100)}": percentile_interval(ok, q) for q in (0.1, 0.5, 0.9)}
     return out
+
+
+def percentile_interval(x: np.ndarray, q: float, level: float = 0.95) -> list:
+    """A distribution-free confidence interval of the ``q`` quantile from order statistics: the sorted samples
+    ``x_(l)`` and ``x_(u)`` with ``l``, ``u`` the binomial(n, q) quantiles at (1 - level)/2 and (1 + level)/2
+    (Conover 1999, Practical Nonparametric Statistics, 3rd ed., section 3.2). An end beyond the sample is None:
+    too few samples to bound the quantile on that side."""
+    from scipy.stats import binom
+    xs = np.sort(np.asarray(x, dtype=float))
+    n = xs.size
+    lo = int(binom.ppf((1 - level) / 2, n, q))          # 1-based rank of the lower bound
+    hi = int(binom.ppf((1 + level) / 2, n, q)) + 1      # 1-based rank of the upper bound
+    return [float(xs[lo - 1]) if lo >= 1 else None, float(xs[hi - 1]) if hi <= n else None]
+
+
+def wilson(k: int, n: int, z: float = 1.959964) -> list:
+    """The Wilson score interval (95 %) of a binomial share k/n (Wilson 1927, "Probable inference, the law of
+    succession, and statistical inference", J. Am. Stat. Assoc. 22, 209-212)."""
+    if n == 0:
+        return [0.0, 1.0]
+    p = k / n
+    centre = (p + z * z / (2 * n)) / (1 + z * z / n)
+    half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
+    return [float(max(0.0, centre - half)), float(min(1.0, centre + half))]
+
+
+def separation(shares: dict, intervals: dict, n: int, criterion: str) -> dict:
+    """Whether the samples separate the two technologies most often first on ``criterion``, in plain words, with
+    the number of samples that would separate shares this far apart (non-overlapping Wilson intervals, normal
+    approximation)."""
+    ranked = sorted((t for t in shares if t != "none feasible"), key=lambda t: -shares[t])
+    pct = lambda t: f"{shares[t]:.0%} ({intervals[t][0]:.0%} to {intervals[t][1]:.0%})"  # noqa: E731
+    if not ranked or shares[ranked[0]] == 0:
+        return {"separated": False, "statement": f"no technology is feasible in any sample on {criterion}"}
+    a = ranked[0]
+    if len(ranked) == 1 or shares[ranked[1]] == 0:
+        return {"first": a, "separated": True,
+                "statement": f"{a.upper()} ranks first on {criterion} in {pct(a)} of samples; no other technology "
+                             f"ranks first in any"}
+    b = ranked[1]
+    if intervals[a][0] > intervals[b][1]:
+        return {"first": a, "second": b, "separated": True,
+                "statement": f"{a.upper()} ranks first on {criterion} in {pct(a)} of samples, ahead of {b.upper()} "
+                             f"in {pct(b)} (95 % intervals)"}
+    pa, pb = shares[a], shares[b]
+    need = None
+    if pa > pb:
+        need = int(np.ceil((1.959964 * (np.sqrt(pa * (1 - pa)) + np.sqrt(pb * (1 - pb))) / (pa - pb)) ** 2))
+    more = (f"; about {need:,} samples would separate shares this far apart" if need else
+            "; more samples will not separate equal shares")
+    return {"first": a, "second": b, "separated": False, "samples_needed": need,
+            "statement": f"{n:,} samples cannot separate {a.upper()} and {b.upper()} on {criterion}: first in "
+                         f"{pct(a)} and {pct(b)} of samples, and the 95 % intervals overlap{more}"}
 
 
 def summary(sr: SweepResult) -> list[dict]:
@@ -584,33 +650,61 @@ def break_even(sr: SweepResult, criterion: str) -> list[dict]:
 
 
 def ranking(sr: SweepResult) -> list[dict]:
-    """Per criterion: the share of cases each technology ranks first (and none), per-case first places for grids of
-    up to 10,000 points, and the break-even points along the grid."""
+    """Per criterion: the share of cases each technology ranks first (and none); for samples, the 95 % Wilson
+    interval of each share and whether the two leading technologies are told apart; for grids, per-case first
+    places (up to 10,000 points) and the break-even points along the grid."""
     out = []
     for crit in RANK_BY:
         fp = first_place(sr, crit)
-        share = {t: float(np.mean(fp == i)) for i, t in enumerate(sr.technologies)}
-        share["none feasible"] = float(np.mean(fp < 0))
+        counts = {t: int(np.sum(fp == i)) for i, t in enumerate(sr.technologies)}
+        counts["none feasible"] = int(np.sum(fp < 0))
+        share = {t: c / max(1, sr.n) for t, c in counts.items()}
         entry = {"criterion": crit, "metric": METRICS[RANK_BY[crit]][0], "first_share": share}
         if sr.mode == "grid":
             if sr.n <= 10000:
                 entry["first_by_case"] = [sr.technologies[i] if i >= 0 else None for i in fp]
             entry["changes"] = break_even(sr, crit)
+        else:
+            entry["first_share_ci"] = {t: wilson(c, sr.n) for t, c in counts.items()}
+            entry["separation"] = separation(share, entry["first_share_ci"], sr.n, crit)
         out.append(entry)
     return out
 
 
-def payload(sr: SweepResult) -> dict:
-    """The JSON summary of DESIGN's contract."""
+def grid_points(sr: SweepResult) -> list[dict]:
+    """One row per grid point: the varied keys in their units, each technology's levelized cost and work
+    equivalent (None where infeasible), and the first place on cost, energy and emissions."""
+    firsts = {c: first_place(sr, c) for c in RANK_BY}
+    rows = []
+    for i in range(sr.n):
+        row = {a.key: float(a.show(sr.cases[a.key][i])) for a in sr.axes}
+        for t in sr.technologies:
+            for m in ("lcow", "work_equivalent"):
+                v = sr.metrics[t][m][i]
+                row[f"{t}.{METRICS[m][0]}"] = float(v) if np.isfinite(v) else None
+        for c, fp in firsts.items():
+            row[f"first_on_{c}"] = sr.technologies[fp[i]] if fp[i] >= 0 else None
+        rows.append(row)
+    return rows
+
+
+def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
+    """The JSON summary of DESIGN's contract (with a ``sensitivity`` section when one was computed)."""
     from .present import CAUTION
     body = {"scenario": sr.scenario.name, "cases": sr.n, "mode": sr.mode, "varied": list(sr.cases),
             "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "flags": sr.flags,
             "notice": CAUTION}
     if sr.mode == "grid":
         body["grid"] = [{"key": a.key, "unit": a.unit, "values": a.display.tolist()} for a in sr.axes]
+        if sr.n <= 10000:
+            body["grid_points"] = grid_points(sr)
     else:
         body["sampling"] = {"seed": sr.seed, "latin_hypercube": sr.lhs,
-                            "distributions": sr.scenario.uncertainty}
+                            "distributions": sr.scenario.uncertainty,
+                            "rank_correlations": [{"keys": list(p), "rho": r}
+                                                  for p, r in sorted(sr.scenario.correlation.items())]}
+    if sensitivity is not None:
+        body["sensitivity"] = sensitivity
     return body
 
 

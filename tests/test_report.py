@@ -114,6 +114,7 @@ def test_report_says_everything_it_must(made):
     for rec in payload["results"]:
         assert rec["technology"].upper() in text
     assert "cannot work" in text and "FO" in text                 # the infeasible FO, in words
+    assert "feed pressure [bar]" in text and "gain output ratio" in text      # design figures by their labels
     assert "below_floor" in text and "a fictional vendor sheet" in text and "within_model" in text
     assert CAUTION in text and all(c in text for c in CAUTIONS)
     assert "RO to MED" in text or "first place" in text.lower()    # the sweep's ranking

@@ -71,13 +71,6 @@ def test_latin_hypercube_fills_every_stratum(toy):
     assert sorted(strata) == list(range(64))
 
 
-def test_samples_outside_a_keys_range_are_clipped_and_reported(toy):
-    s = scenario(uncertainty={"toy.efficiency": {"mean": "0.95", "sd": "0.1"}})
-    x, notes = sw.sample_cases(s, 1000, seed=2)
-    assert x["toy.efficiency"].max() <= 1.0 and x["toy.efficiency"].min() > 0.0
-    assert len(notes) == 1 and "clipped" in notes[0] and "toy.efficiency" in notes[0]
-
-
 def test_grid_equals_single_runs_at_the_same_points():
     # one code path: each grid point equals a single comparison with --set to 1e-9 (real RO, MED and FO)
     s = scenario()

@@ -72,7 +72,7 @@ FIELDS = (
     ("Site totals", "annual heat", "GWh_th/yr", "annual_heat_gwh", 3),
     ("Emissions", "CO2 per m3", "kg/m3", "emissions_kg_per_m3", 3),
     ("Emissions", "CO2 per year", "t/yr", "annual_emissions_t", 3),
-    ("Cost", "levelised cost of water", "{currency}/m3", "levelized_cost_per_m3", 3),
+    ("Cost", "levelized cost of water", "{currency}/m3", "levelized_cost_per_m3", 3),
     ("Cost", "of which capital", "{currency}/m3", lambda r: _cost(r, "capital"), 3),
     ("Cost", "of which fixed O&M", "{currency}/m3", lambda r: _cost(r, "fixed_om"), 3),
     ("Cost", "of which electricity", "{currency}/m3", lambda r: _cost(r, "electricity"), 3),
@@ -210,7 +210,7 @@ def sweep_figures(sweep: dict) -> list[dict]:
     techs = list(dict.fromkeys(cases["technology"]))
     colour = {t: PALETTE[i % len(PALETTE)] for i, t in enumerate(techs)}
     figures = []
-    metrics = (("levelized_cost_per_m3", f"levelised cost [{currency}/m3]", "cost"),
+    metrics = (("levelized_cost_per_m3", f"levelized cost [{currency}/m3]", "cost"),
                ("work_equivalent_kwh_per_m3", "work equivalent [kWh/m3]", "energy"))
     if s.get("mode") == "grid" and sweep["columns"]:
         axis = s["grid"][0]
@@ -266,10 +266,14 @@ def sweep_context(sweep: dict) -> dict:
                        "shares": ", ".join(f"{k.upper() if k != 'none feasible' else k} {100 * v:.0f} %"
                                            for k, v in r.get("first_share", {}).items() if v)})
     changes = [c for r in s.get("ranking", []) for c in r.get("changes", [])]
-    flags = list(s.get("flags") or [])
+    flags = [dict(f) for f in s.get("flags") or []]
     if not flags:
         flags = [{"kind": "warning", "message": w if isinstance(w, str) else w.get("message", str(w))}
                  for w in s.get("warnings", [])]
+    for f in flags:
+        f["words"] = KIND_WORDS.get(f.get("kind"), f.get("kind", ""))
+        f["sentence"] = _sentence(f.get("message", "") + (f" (in {f['cases']} of {s.get('cases')} cases)"
+                                                          if f.get("cases") else ""))
     sc = (sweep["run"].get("scenarios") or [{}])[0]
     return {"folder": sweep["folder"], "mode": s.get("mode"), "cases": s.get("cases"), "varied": s.get("varied", []),
             "grid": s.get("grid"), "sampling": s.get("sampling"), "shares": shares, "changes": changes,
@@ -278,7 +282,7 @@ def sweep_context(sweep: dict) -> dict:
 
 
 # ------------------------------------------------------------------------------------------------------ render
-def energy_figure(payload: dict, width: int = 460) -> str:
+def energy_figure(payload: dict, width: int = 400) -> str:
     recs = payload["results"]
     rows = []
     for r in recs:
@@ -302,7 +306,33 @@ def cost_figure(payload: dict) -> str:
         parts = [_cost(r, k) for k, _, _ in COST_PARTS]
         rows.append((r["technology"].upper(), None if all(p is None for p in parts) else parts, "infeasible here"))
     return stacked_bars(rows, [(label, colour) for _, label, colour in COST_PARTS], unit=f"{currency}/m3 of product",
-                        label="Levelised cost of water and its parts", cls="cost")
+                        label="Levelized cost of water and its parts", cls="cost")
+
+
+def design_items(rec: dict) -> list[tuple[str, str]]:
+    """A record's design figures as (label [unit], value): those its technology describes (the presenters' field
+    table), in its order, then any other figure under its record name; figures left out (null) are skipped."""
+    from .fields import SITE_DETAILS, record_name, unit_label
+    from .records import detail_table
+
+    details = {k: v for k, v in (rec.get("details") or {}).items() if not isinstance(v, dict)}
+    shown = {f.name for f in SITE_DETAILS if f.name != "capital"} | {"cost_breakdown_per_m3"}
+    currency = rec.get("currency", "")
+    items = []
+    capital = next((f for f in SITE_DETAILS if f.name == "capital"), None)
+    for f in ([capital] if capital else []):
+        if _num(details.get(f.name)) is not None:
+            items.append((unit_label(f.label, f.unit, currency), fmt(details[f.name])))
+        shown.add(f.name)
+    for key, d in detail_table(rec["technology"]).items():
+        name = record_name(key, d.unit)
+        shown.add(name)
+        if _num(details.get(name)) is not None:
+            items.append((unit_label(d.label, d.unit), fmt(details[name])))
+    for k, v in details.items():
+        if k not in shown and v is not None:
+            items.append((k, fmt(v) if _num(v) is not None else _show(v)))
+    return items
 
 
 def _glance(payload: dict, judgements=()) -> list[str]:
@@ -314,7 +344,7 @@ def _glance(payload: dict, judgements=()) -> list[str]:
         out.append(f"The thermodynamic floor of this feed is {fmt_number(lw0, 3)} kWh/m3 (least work at zero "
                    "recovery); each technology's own floor rises with its recovery (the black ticks).")
     for label, field, unit in (("energy (work equivalent)", "work_equivalent_kwh_per_m3", "kWh/m3"),
-                               ("levelised cost", "levelized_cost_per_m3", "{currency}/m3"),
+                               ("levelized cost", "levelized_cost_per_m3", "{currency}/m3"),
                                ("CO2", "emissions_kg_per_m3", "kg/m3")):
         ranked = sorted((r for r in recs if _num(r.get(field)) is not None), key=lambda r: r[field])
         if ranked:
@@ -372,13 +402,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         group = grp
     table.insert(0, {"group": "", "label": "feasible", "unit": "",
                      "values": ["yes" if r["feasible"] else "NO" for r in recs]})
-    designs = []
-    for r in recs:
-        det = {k: v for k, v in (r.get("details") or {}).items()
-               if k not in ("cost_breakdown_per_m3", "work_equivalent_of_heat_kwh_per_m3") and not isinstance(v, dict)}
-        designs.append({"name": r["technology"].upper(),
-                        "items": [(k, fmt(v) if _num(v) is not None else _show(v))
-                                  for k, v in det.items()]})
+    designs = [{"name": r["technology"].upper(), "items": design_items(r)} for r in recs]
     flag_groups = []
     ff = floor_flags(payload)
     if ff:

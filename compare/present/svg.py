@@ -64,7 +64,7 @@ def _legend(items, x0, y, width) -> tuple[list[str], float]:
     """Legend swatches in rows that wrap at ``width``; returns the elements and the y below them."""
     out, x = [], x0
     for label, colour, kind in items:
-        w = 26 + 7.2 * len(label) + 14
+        w = 26 + 6.9 * len(label) + 12
         if x + w > x0 + width and x > x0:
             x, y = x0, y + 22
         if kind == "box":
@@ -80,7 +80,7 @@ def _legend(items, x0, y, width) -> tuple[list[str], float]:
     return out, y + 14
 
 
-def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, width: int = 560,
+def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, width: int = 480,
                  cls: str = "bars") -> str:
     """Horizontal stacked bars, one row per item, its label above the bar and its total after it.
 
@@ -95,7 +95,7 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
         legend.append((marks[0], "#000", "tick"))
     if line:
         legend.append((line[0], "#444", "dash"))
-    body, y = _legend(legend, pad_l, top + 14, width - pad_l - pad_r)
+    body, y = _legend(legend, pad_l, top + 14, width - 2 * pad_l)
     totals = [sum(v for v in vals if v is not None and math.isfinite(v)) for _, vals, _ in rows if vals]
     extra = [v for v in (marks[1] if marks else []) if v is not None] + ([line[1]] if line else [])
     hi = max(totals + extra + [1e-12])
@@ -144,8 +144,8 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
     return _svg(width, axis_y + 46, body, label, cls)
 
 
-def line_chart(x, series, *, xlabel: str, ylabel: str, label: str, vlines=(), hline=None, width: int = 560,
-               height: int = 340, cls: str = "lines") -> str:
+def line_chart(x, series, *, xlabel: str, ylabel: str, label: str, vlines=(), hline=None, width: int = 480,
+               height: int = 320, cls: str = "lines") -> str:
     """Lines of y against x with markers; ``series`` is a list of (label, colour, y values, NaN where missing);
     ``vlines`` a list of (x, text) markers (break-even points); ``hline`` an optional (y, text) reference line."""
     x = np.asarray(x, dtype=float)
@@ -201,7 +201,7 @@ def line_chart(x, series, *, xlabel: str, ylabel: str, label: str, vlines=(), hl
     return _svg(width, height, body, label, cls)
 
 
-def histogram_strips(groups, *, xlabel: str, label: str, bins: int = 30, width: int = 560,
+def histogram_strips(groups, *, xlabel: str, label: str, bins: int = 30, width: int = 480,
                      cls: str = "histograms") -> str:
     """One histogram strip per group on a shared axis, with the p10, p50 and p90 marked; ``groups`` is a list of
     (label, colour, values)."""

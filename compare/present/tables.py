@@ -155,36 +155,123 @@ def _band(row: dict) -> str:
     return f"{fmt_number(row['p50'])} ({fmt_number(row['p10'])}-{fmt_number(row['p90'])})"
 
 
+def _range(row: dict) -> str:
+    if not row["n"]:
+        return "-"
+    if row["min"] == row["max"]:
+        return fmt_number(row["min"])
+    return f"{fmt_number(row['min'])} to {fmt_number(row['max'])}"
+
+
+#: grid points shown in the terminal table; a wider grid is in grid.csv of the run folder
+GRID_ROWS = 30
+
+
+def _key_unit(body: dict) -> dict:
+    return {g["key"]: g["unit"] for g in body.get("grid", [])}
+
+
 def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
-    """The sweep summary as (heading, columns, rows) sections: percentiles, first places, break-even points."""
+    """The sweep summary as (heading, columns, rows) sections. Samples: p50 (p10-p90) per technology and metric,
+    the share of samples each ranks first with its 95 % interval, and whether the leaders are told apart. Grids:
+    the range across the grid, a row per grid point (up to 30) and the break-even points with their units."""
     techs = list(dict.fromkeys(r["technology"] for r in body["summary"] if r["technology"] != "floor"))
     by = {(r["technology"], r["metric"]): r for r in body["summary"]}
+    grid = body["mode"] == "grid"
+    cell = _range if grid else _band
     rows = [["feasible share"] + [f"{by[(t, 'electricity_kwh_per_m3')]['feasible_share']:.0%}" for t in techs]]
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
-        rows.append([f"{label} [{unit}]"] + [_band(by[(t, m)]) for t in techs])
+        rows.append([f"{label} [{unit}]"] + [cell(by[(t, m)]) for t in techs])
     fl = by.get(("floor", "least_work_kwh_per_m3_zero_recovery"))
     if fl:
-        rows.append(["floor: least work, zero recovery [kWh/m3]"] + [_band(fl)] * len(techs))
-    out = [(f"{body['scenario']}: {body['cases']} cases ({body['mode']}); p50 (p10-p90) over feasible cases",
-            ["metric"] + techs, rows)]
+        rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl)] * len(techs))
+    what = ("lowest to highest across the grid points (feasible ones)" if grid
+            else "p50 (p10-p90) over feasible samples")
+    out = [(f"{body['scenario']}: {body['cases']} cases ({body['mode']}); {what}", ["metric"] + techs, rows)]
     share_cols = techs + ["none feasible"]
-    out.append(("share of cases ranked first", ["criterion"] + share_cols,
-                [[r["criterion"]] + [f"{r['first_share'].get(t, 0):.0%}" for t in share_cols]
-                 for r in body["ranking"]]))
-    changes = [c for r in body["ranking"] for c in r.get("changes", [])]
-    if body["mode"] == "grid":
+    if grid:
+        out.append(("share of grid points ranked first", ["criterion"] + share_cols,
+                    [[r["criterion"]] + [f"{r['first_share'].get(t, 0):.0%}" for t in share_cols]
+                     for r in body["ranking"]]))
+    else:
+        def share(r, t):
+            ci = r.get("first_share_ci", {}).get(t)
+            return f"{r['first_share'].get(t, 0):.0%}" + (f" ({ci[0]:.0%}-{ci[1]:.0%})" if ci else "")
+        out.append(("share of samples ranked first (95 % interval)", ["criterion"] + share_cols,
+                    [[r["criterion"]] + [share(r, t) for t in share_cols] for r in body["ranking"]]))
+        out.append(("how sure the ranking is", ["criterion", "statement"],
+                    [[r["criterion"], r["separation"]["statement"]] for r in body["ranking"] if "separation" in r]))
+    if grid:
+        units = _key_unit(body)
+        points = body.get("grid_points") or []
+        keys = [g["key"] for g in body["grid"]]
+        cost_unit = by[(techs[0], "levelized_cost_per_m3")]["unit"] if techs else ""
+        if points and len(points) <= GRID_ROWS:
+            cols = [f"{k} [{units[k]}]" for k in keys] + [f"{t} cost [{cost_unit}]" for t in techs] + \
+                ["first on cost", "first on energy"]
+            rows = [[fmt_number(p[k]) for k in keys] + [fmt_number(p[f"{t}.levelized_cost_per_m3"]) for t in techs]
+                    + [p["first_on_cost"] or "none", p["first_on_energy"] or "none"] for p in points]
+            out.append(("each grid point", cols, rows))
+        else:
+            out.append(("each grid point", ["grid points", "where"],
+                        [[f"{body['cases']:,}", "grid.csv in the run folder (one row per point; cases.csv has every "
+                                                "figure)"]]))
         rows = []
-        for c in changes:
-            at = ", ".join(f"{k}={v:g}" for k, v in c["at"].items())
-            where = (f"{fmt_number(c['value'])} {c['unit']}" if c["kind"] == "crossing"
-                     else f"between {fmt_number(c['between'][0])} and {fmt_number(c['between'][1])} {c['unit']} "
-                          "(feasibility)")
-            rows.append([c["criterion"], f"{c['from'] or 'none'} -> {c['to'] or 'none'}", f"{c['key']} = {where}",
-                         at or "-"])
-        out.append(("where first place changes along the grid", ["criterion", "change", "at", "other keys"],
+        for r in body["ranking"]:
+            for c in r.get("changes", []):
+                at = ", ".join(f"{k} = {fmt_number(v)} {units.get(k, '')}".rstrip() for k, v in c["at"].items())
+                where = (f"{fmt_number(c['value'])} {c['unit']}" if c["kind"] == "crossing"
+                         else f"between {fmt_number(c['between'][0])} and {fmt_number(c['between'][1])} {c['unit']} "
+                              "(feasibility)")
+                rows.append([c["criterion"], f"{c['from'] or 'none'} -> {c['to'] or 'none'}",
+                             f"{c['key']} = {where}", at or "-"])
+        out.append(("where first place changes along the grid (break-even)", ["criterion", "change", "at",
+                                                                               "other keys"],
                     rows or [["-", "no change along the grid", "-", "-"]]))
+    if body.get("sensitivity"):
+        out += sensitivity_sections(body["sensitivity"], body)
     return out
+
+
+def _interval(row: dict, name: str) -> str:
+    if row.get(name) is None:
+        return "-"
+    return f"{row[name]:.2f} ({row[name + '_low']:.2f} to {row[name + '_high']:.2f})"
+
+
+def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], list[list]]]:
+    """Sobol indices of the levelized cost per technology and key, and the key with the largest total index for
+    every metric; or the tornado of the levelized cost (each key at its p10 and p90, the others at medians)."""
+    cost_unit = next((r["unit"] for r in body["summary"] if r["metric"] == "levelized_cost_per_m3"), "")
+    if sens["method"] == "sobol":
+        rows = [[r["technology"], r["key"], _interval(r, "first"), _interval(r, "total"), r["samples"]]
+                for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"]
+        out = [(f"Sobol indices of the levelized cost, 95 % intervals ({sens['base_samples']} base samples, "
+                f"{sens['evaluations']} evaluations)", ["technology", "key", "first order", "total", "rows used"],
+                rows)]
+        top = []
+        for (t, m) in dict.fromkeys((r["technology"], r["metric"]) for r in sens["rows"]):
+            rs = [r for r in sens["rows"] if r["technology"] == t and r["metric"] == m and r["total"] is not None]
+            if rs:
+                best = max(rs, key=lambda r: r["total"])
+                top.append([t, {**SWEEP_METRICS, "feasible": "feasibility"}.get(m, m), best["key"], _interval(best, "total")])
+            else:
+                top.append([t, {**SWEEP_METRICS, "feasible": "feasibility"}.get(m, m), "-", "no variation (or too few feasible rows)"])
+        out.append(("the key with the largest total Sobol index", ["technology", "metric", "key", "total index"], top))
+        return out
+    rows = []
+    for r in sorted((r for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"),
+                    key=lambda r: (r["technology"], -abs((r["at_high"] or 0) - (r["at_low"] or 0)))):
+        swing = None if r["at_low"] is None or r["at_high"] is None else r["at_high"] - r["at_low"]
+        if swing == 0:
+            continue                # a key with no effect on this technology
+        rows.append([r["technology"], f"{r['key']} {fmt_number(r['low'])} to {fmt_number(r['high'])} "
+                     f"{'' if r['unit'] == '-' else r['unit']}".rstrip(),
+                     fmt_number(r["at_low"]), fmt_number(r["at_high"]), fmt_number(swing)])
+    return [(f"tornado: levelized cost [{cost_unit}] with each key at its p10 and p90, the others at their medians "
+             "(keys with no effect left out)",
+             ["technology", "key (p10 to p90)", "cost at p10", "cost at p90", "swing"], rows)]
 
 
 def sweep_tables(console: Console, body: dict) -> None:
