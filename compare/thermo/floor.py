@@ -171,6 +171,14 @@ class OsmoticTable:
             S, T = np.broadcast_arrays(S, T)
         if S.ndim == 0:
             return self(S.reshape(1), T.reshape(1))[0]
+        if S.size >= _COMPILED_FROM:
+            kernel = _compiled()
+            if kernel is not None:
+                out = np.empty(S.shape)
+                kernel(np.ascontiguousarray(S).reshape(-1), np.ascontiguousarray(T).reshape(-1), self._coef,
+                       self._inv_du, self._inv_dt, self.T_MIN, self._fu_max, self._ft_max, self._cells_t,
+                       out.reshape(-1))
+                return out
         fu = np.sqrt(np.maximum(S, 0.0))
         fu *= self._inv_du
         np.fmin(np.fmax(fu, 0.0, out=fu), self._fu_max, out=fu)        # fmax/fmin send NaN to the bound
@@ -205,6 +213,47 @@ class OsmoticTable:
         return [Flag("out_of_range", "osmotic_table", f"{what}_salinity", model,
                      f"{what} outside the osmotic-pressure table (0-{self.S_MAX * 1e3:.0f} g/kg, "
                      f"{self.T_MIN - 273.15:.0f}-{self.T_MAX - 273.15:.0f} degC); the edge value is used", bad)]
+
+
+#: arrays at least this large go through the compiled lookup when numba is installed (smaller ones: numpy, so that a
+#: single comparison does not pay numba's import)
+_COMPILED_FROM = 4096
+
+
+def _lookup(S, T, coef, inv_du, inv_dt, t_min, fu_max, ft_max, cells_t, out):  # pragma: no cover - compiled
+    """The table lookup of :meth:`OsmoticTable.__call__` point by point, the same operations in the same order (so
+    the compiled and the numpy paths agree exactly; tested)."""
+    for k in range(S.size):
+        s = S[k]
+        u = np.sqrt(s) * inv_du if s > 0.0 else 0.0
+        if u > fu_max:
+            u = fu_max
+        t = (T[k] - t_min) * inv_dt
+        if not t >= 0.0:                       # also NaN
+            t = 0.0
+        if t > ft_max:
+            t = ft_max
+        i = int(u)
+        j = int(t)
+        a = u - i
+        b = t - j
+        r = i * cells_t + j
+        out[k] = ((((coef[r, 3] * a + coef[r, 2]) * b) + coef[r, 1] * a) + coef[r, 0]) * s
+    return out
+
+
+_KERNEL: list = []
+
+
+def _compiled():
+    """The lookup compiled by numba (``cache=True``: compiled once per machine), or None without numba."""
+    if not _KERNEL:
+        try:
+            import numba
+            _KERNEL.append(numba.njit(cache=True, nogil=True)(_lookup))
+        except Exception:                      # noqa: BLE001 - numba absent or unusable: the numpy path serves
+            _KERNEL.append(None)
+    return _KERNEL[0]
 
 
 _TABLES: dict = {}

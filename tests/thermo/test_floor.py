@@ -130,3 +130,24 @@ def test_osmotic_table_error_bound(model):
     T = rng.uniform(275.0, 365.0, 2000)
     exact = osmotic_pressure(model.ln_aw(S, T), T)
     assert osmotic_table(model)(S, T) == pytest.approx(exact, rel=1e-4)
+
+
+def test_compiled_table_lookup_equals_the_numpy_one():
+    # identity: with numba installed, large arrays take the compiled lookup; it must give the numpy path's values
+    # exactly, edges included (NaN, negative, beyond the grid), so results never depend on numba being there
+    pytest.importorskip("numba", reason="optional extra 'fast' (numba) missing")
+    from compare.thermo import floor
+    from compare.thermo.activity import get_model
+    tab = floor.osmotic_table(get_model("teos10", "seawater"))
+    rng = np.random.default_rng(4)
+    S = np.concatenate([rng.uniform(0.0, 0.3, 6000), [np.nan, -0.01, 0.0, 0.5, np.inf, 0.035]])
+    T = np.concatenate([rng.uniform(270.0, 430.0, 6000), [300.0, 300.0, 300.0, 300.0, 300.0, np.nan]])
+    compiled = tab(S, T)
+    assert floor._compiled() is not None
+    saved = floor._COMPILED_FROM
+    floor._COMPILED_FROM = 10 ** 12
+    try:
+        plain = tab(S, T)
+    finally:
+        floor._COMPILED_FROM = saved
+    np.testing.assert_array_equal(compiled, plain)
