@@ -187,6 +187,8 @@ def read_sweep(folder) -> dict:
         cases = pd.read_csv(folder / "cases.csv", usecols=lambda c: c in wanted or c in columns)
     except (OSError, ValueError) as exc:
         raise InputError(f'--sweep: expected a readable cases.csv in "{folder}", got {exc}') from None
+    if (summary.get("sensitivity") or {}).get("method") == "sobol" and "case" in cases:
+        cases = cases[cases["case"] < summary.get("cases", 0)]     # the A and B blocks: the plain samples
     return {"folder": str(folder), "summary": summary, "run": run, "cases": cases, "columns": columns}
 
 
