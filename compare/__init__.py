@@ -7,7 +7,11 @@ Public API (SI units unless a name says otherwise):
 * :func:`compare.thermo.activity.get_model` - a water activity model.
 * :func:`compare.scenario.load` - a scenario file, validated and in SI.
 * :func:`compare.pipeline.evaluate` - every enabled technology for a scenario (and N varied cases).
-* :mod:`compare.sweep` - grids, Monte Carlo samples, summaries, rankings and break-even points.
+* :mod:`compare.sweep` - grids, Monte Carlo samples, summaries, rankings and break-even points; a result's
+  ``to_frame()`` (pandas, a row per case and technology) and, for grids, ``to_dataset()`` (xarray, over the grid
+  axes and technology; the ``xarray`` extra).
+* :mod:`compare.uncertainty` - truncated distributions, rank correlations, shared inputs.
+* :mod:`compare.sensitivity` - Sobol indices and tornado of the uncertain keys.
 """
 
 from __future__ import annotations

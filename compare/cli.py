@@ -404,6 +404,7 @@ def cmd_check(args) -> int:
         rows = [[k, _show_value(s.texts[k]), s.sources[k]] for k in s.texts]
         payload.append({"scenario": s.name, "path": s.path, "sha256": s.sha256,
                         "technologies": s.technologies, "uncertainty": s.uncertainty,
+                        "rank_correlations": [{"keys": list(k), "rho": r} for k, r in sorted(s.correlation.items())],
                         "inputs": {k: {"value": s.texts[k], "source": s.sources[k]} for k in s.texts}})
         tables.append(rich_table(f"{s.name}: valid; compares {', '.join(s.technologies) or 'no technology'}",
                                  ["key", "value", "source"], rows))

@@ -535,17 +535,18 @@ def _stats(x: np.ndarray, grid: bool) -> dict:
         out["min"] = float(ok.min()) if ok.size else None
         out["max"] = float(ok.max()) if ok.size else None
     elif ok.size:
-        out["ci"] = {f"p{int(q * 100)}": percentile_interval(ok, q) for q in (0.1, 0.5, 0.9)}
+        xs = np.sort(ok)
+        out["ci"] = {f"p{int(q * 100)}": percentile_interval(xs, q, presorted=True) for q in (0.1, 0.5, 0.9)}
     return out
 
 
-def percentile_interval(x: np.ndarray, q: float, level: float = 0.95) -> list:
+def percentile_interval(x: np.ndarray, q: float, level: float = 0.95, presorted: bool = False) -> list:
     """A distribution-free confidence interval of the ``q`` quantile from order statistics: the sorted samples
     ``x_(l)`` and ``x_(u)`` with ``l``, ``u`` the binomial(n, q) quantiles at (1 - level)/2 and (1 + level)/2
     (Conover 1999, Practical Nonparametric Statistics, 3rd ed., section 3.2). An end beyond the sample is None:
     too few samples to bound the quantile on that side."""
     from scipy.stats import binom
-    xs = np.sort(np.asarray(x, dtype=float))
+    xs = np.asarray(x, dtype=float) if presorted else np.sort(np.asarray(x, dtype=float))
     n = xs.size
     lo = int(binom.ppf((1 - level) / 2, n, q))          # 1-based rank of the lower bound
     hi = int(binom.ppf((1 + level) / 2, n, q)) + 1      # 1-based rank of the upper bound

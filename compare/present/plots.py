@@ -70,14 +70,19 @@ def metric_label(name: str, currency: str) -> str:
     return unit_label(f.label, f.unit, currency, f.fmt)
 
 
-def key_label(key: str, unit: str = "") -> str:
+def key_label(key: str, unit: str = "", technology: str | None = None) -> str:
     """A scenario key in words with its unit: ``energy.electricity_price`` -> ``electricity price [USD/kWh]``;
-    a technology's key names the technology (``RO pump efficiency``)."""
+    a technology's key names the technology (``RO pump efficiency``), and says when it reaches ``technology`` as a
+    shared input (FO's regenerator drawing RO's pump efficiency)."""
     from ..tech.base import TECHNOLOGIES
+    from ..uncertainty import SHARED
     sec, name = key.split(".", 1)
     words = name.replace(".", " ").replace("_", " ")
     if sec in TECHNOLOGIES:
         words = f"{sec.upper()} {words}"
+    if technology and sec != technology and any(t.startswith(f"{technology}.") and s == key
+                                                for t, s in SHARED.items()):
+        words += f" (shared by {technology.upper()})"
     return f"{words} [{unit}]" if unit and unit != "-" else words
 
 
@@ -191,9 +196,10 @@ def _key_words(sens: dict, key: str, rows: list) -> str:
     r = next((r for r in rows if r["key"] == key), None)
     if r is None or "low" not in r:
         return key_label(key)
+    words = key_label(key, technology=r["technology"])
     from .tables import fmt_number
     unit = "" if r["unit"] == "-" else f" {r['unit']}"
-    return f"{key_label(key)}\n{fmt_number(r['low'], 3)} to {fmt_number(r['high'], 3)}{unit}"
+    return f"{words}\n{fmt_number(r['low'], 3)} to {fmt_number(r['high'], 3)}{unit}"
 
 
 def tornado_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per_m3") -> list[str]:
@@ -264,7 +270,7 @@ def sobol_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per
             ax.barh(y + off, np.clip(v, 0, None), height=0.34, color=c, label=lab)
             ax.errorbar(v, y + off, xerr=[np.clip(v - lo, 0, None), np.clip(hi - v, 0, None)], fmt="none",
                         ecolor="k", elinewidth=1, capsize=2)
-        ax.set_yticks(y, [key_label(k) for k in order], fontsize=8)
+        ax.set_yticks(y, [key_label(k, technology=t) for k in order], fontsize=8)
         n = next(iter(rs.values()))["samples"] if rs else 0
         ax.set_title(f"{t.upper()} ({n} base rows used)" if n else f"{t.upper()}: no variation or too few feasible "
                      "rows", fontsize=10, loc="left")
@@ -292,8 +298,10 @@ def compare_figure(payloads: list[dict], folder) -> list[str]:
     plt = _plt()
     from .fields import COST_LINES
     n = max(1, len(payloads))
-    fig, axes = plt.subplots(2, n, figsize=(3 + 3.2 * n, 8), squeeze=False, sharey="row")
-    cost_colours = ("#4c72b0", "#8fb0d9", "#dd8452", "#c44e52")
+    fig, axes = plt.subplots(2, n, figsize=(3 + 3.2 * n, 8), squeeze=False)
+    # electricity and heat keep their energy-panel colours in the cost stack
+    cost_colours = ("0.35", "0.7", "#4c72b0", "#dd8452")
+    currencies = []
     for p, (ax, cx) in zip(payloads, zip(axes[0], axes[1])):
         recs = p["results"]
         names = [r["technology"].upper() for r in recs]
@@ -309,6 +317,7 @@ def compare_figure(payloads: list[dict], folder) -> list[str]:
                    label="least work of the feed (zero recovery)")
         bottom = np.zeros(len(recs))
         currency = recs[0]["currency"] if recs else ""
+        currencies.append(currency)
         for f, c in zip(COST_LINES, cost_colours):
             v = np.array([np.nan if (r["details"].get("cost_breakdown_per_m3") or {}).get(f.name) is None
                           else r["details"]["cost_breakdown_per_m3"][f.name] for r in recs])
@@ -324,8 +333,19 @@ def compare_figure(payloads: list[dict], folder) -> list[str]:
             a.set_xticks(x, names)
             a.grid(axis="y", alpha=0.3)
         ax.set_title(p["scenario"], fontsize=10)
+    # shared axes: energy across scenarios; cost too when every scenario prices in one currency
+    top = max(a.get_ylim()[1] for a in axes[0])
+    for a in axes[0]:
+        a.set_ylim(0, top)
     axes[0, 0].set_ylabel("energy per m3 of product [kWh/m3]")
-    axes[1, 0].set_ylabel(f"levelized cost of water [{currency}/m3]")
+    if len(set(currencies)) <= 1:
+        top = max(a.get_ylim()[1] for a in axes[1])
+        for a in axes[1]:
+            a.set_ylim(0, top)
+        axes[1, 0].set_ylabel(f"levelized cost of water [{currencies[0] if currencies else ''}/m3]")
+    else:
+        for a, cur in zip(axes[1], currencies):
+            a.set_ylabel(f"levelized cost of water [{cur}/m3]")
     axes[0, -1].legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.0, 1.0))
     axes[1, -1].legend(fontsize=7, loc="upper left", bbox_to_anchor=(1.0, 1.0))
     fig.tight_layout()

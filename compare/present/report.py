@@ -196,6 +196,8 @@ def read_sweep(folder) -> dict:
     except (OSError, ValueError, IndexError, ImportError) as exc:
         raise InputError(f'--sweep: expected readable cases in "{folder}", got {type(exc).__name__}: '
                          f'{str(exc).splitlines()[0] if str(exc) else ""}') from None
+    if (summary.get("sensitivity") or {}).get("method") == "sobol" and "case" in cases:
+        cases = cases[cases["case"] < summary.get("cases", 0)]     # the A and B blocks: the plain samples
     return {"folder": str(folder), "summary": summary, "run": run, "cases": cases, "columns": columns}
 
 

@@ -261,8 +261,9 @@ def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], l
         out.append(("the key with the largest total Sobol index", ["technology", "metric", "key", "total index"], top))
         return out
     rows = []
+    order = list(dict.fromkeys(r["technology"] for r in sens["rows"]))
     for r in sorted((r for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"),
-                    key=lambda r: (r["technology"], -abs((r["at_high"] or 0) - (r["at_low"] or 0)))):
+                    key=lambda r: (order.index(r["technology"]), -abs((r["at_high"] or 0) - (r["at_low"] or 0)))):
         swing = None if r["at_low"] is None or r["at_high"] is None else r["at_high"] - r["at_low"]
         if swing == 0:
             continue                # a key with no effect on this technology
