@@ -74,8 +74,10 @@ def key_label(key: str, unit: str = "", technology: str | None = None) -> str:
     """A scenario key in words with its unit: ``energy.electricity_price`` -> ``electricity price [USD/kWh]``;
     a technology's key names the technology (``RO pump efficiency``), and says when it reaches ``technology`` as a
     shared input (FO's regenerator drawing RO's pump efficiency)."""
+    from ..tech import load_builtin
     from ..tech.base import TECHNOLOGIES
     from ..uncertainty import SHARED
+    load_builtin()
     sec, name = key.split(".", 1)
     words = name.replace(".", " ").replace("_", " ")
     if sec in TECHNOLOGIES:
