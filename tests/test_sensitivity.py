@@ -125,3 +125,13 @@ def test_cli_sensitivity_refusals(toy, tmp_path, capsys, argv, extra, words):
     code = main(["sweep", str(_write(tmp_path, extra)), *argv, "--no-save", "--quiet"])
     err = capsys.readouterr().err
     assert code == 2 and len(err.strip().splitlines()) == 1 and words in err
+
+
+def test_plot_labels_are_words_with_units():
+    pytest.importorskip("matplotlib")
+    from compare.present.plots import key_label, metric_label
+    assert key_label("energy.electricity_price", "USD/kWh") == "electricity price [USD/kWh]"
+    assert key_label("ro.pump_efficiency", "-") == "RO pump efficiency"
+    assert key_label("ro.pump_efficiency", technology="fo") == "RO pump efficiency (shared by FO)"
+    assert metric_label("levelized_cost_per_m3", "EUR") == "levelized cost of water [EUR/m3]"
+    assert metric_label("second_law_efficiency", "USD") == "second-law efficiency [%]"

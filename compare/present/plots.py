@@ -74,8 +74,10 @@ def key_label(key: str, unit: str = "", technology: str | None = None) -> str:
     """A scenario key in words with its unit: ``energy.electricity_price`` -> ``electricity price [USD/kWh]``;
     a technology's key names the technology (``RO pump efficiency``), and says when it reaches ``technology`` as a
     shared input (FO's regenerator drawing RO's pump efficiency)."""
+    from ..tech import load_builtin
     from ..tech.base import TECHNOLOGIES
     from ..uncertainty import SHARED
+    load_builtin()
     sec, name = key.split(".", 1)
     words = name.replace(".", " ").replace("_", " ")
     if sec in TECHNOLOGIES:
@@ -168,8 +170,17 @@ def samples_figure(sr, folder) -> list[str]:
             fl = np.sort(sr.floor[np.isfinite(sr.floor)])
             ax.step(fl, np.arange(1, fl.size + 1) / fl.size, where="post", color="k", lw=1.2,
                     label="least work of the feed (zero recovery)")
-        ax.set_xlabel(metric_label(name, cur))
-        ax.grid(alpha=0.3)
+        values = np.concatenate([sr.metrics[t][metric][np.isfinite(sr.metrics[t][metric])] * k
+                                 for t in sr.technologies] + ([sr.floor] if metric == "work_equivalent" else []))
+        log = values.size and values.min() > 0 and values.max() / values.min() > 10
+        if log:            # technologies an order of magnitude apart: a log axis keeps the small ones readable
+            from matplotlib import ticker
+            ax.set_xscale("log")
+            ax.xaxis.set_major_locator(ticker.LogLocator(subs=(1.0, 2.0, 5.0)))
+            ax.xaxis.set_major_formatter(ticker.FuncFormatter(lambda v, _: f"{v:g}"))
+            ax.xaxis.set_minor_formatter(ticker.NullFormatter())
+        ax.set_xlabel(metric_label(name, cur) + (" (log scale)" if log else ""))
+        ax.grid(alpha=0.3, which="both" if log else "major")
         ax.set_ylim(0, 1.02)
     for ax in axes[:, 0]:
         ax.set_ylabel("share of samples at or below")
