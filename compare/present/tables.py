@@ -183,6 +183,15 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
         rows.append([f"{label} [{unit}]"] + [cell(by[(t, m)]) for t in techs])
+    if not grid and techs:
+        def p50_ci(row):
+            ci = (row.get("ci") or {}).get("p50")
+            if not ci:
+                return "-"
+            return f"{fmt_number(ci[0]) if ci[0] is not None else '?'} to {fmt_number(ci[1]) if ci[1] is not None else '?'}"
+        unit = by[(techs[0], "levelized_cost_per_m3")]["unit"]
+        rows.append([f"levelized cost p50, its 95 % interval [{unit}]"]
+                    + [p50_ci(by[(t, "levelized_cost_per_m3")]) for t in techs])
     fl = by.get(("floor", "least_work_kwh_per_m3_zero_recovery"))
     if fl:
         rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl)] * len(techs))
