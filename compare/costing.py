@@ -161,7 +161,7 @@ class Item:
 #: capital items, in the order shown, grouped by cause
 CAPITAL_ITEMS: dict[str, Item] = {
     "membranes": Item("membrane elements", "membranes"),
-    "pressure_vessels": Item("pressure vessels with racks and manifolds", "membranes"),
+    "pressure_vessels": Item("pressure vessels and racks", "membranes"),
     "high_pressure_pumps": Item("high-pressure and booster pumps", "pressure"),
     "energy_recovery": Item("energy-recovery devices", "pressure"),
     "evaporator": Item("evaporator heat-transfer surface", "heat transfer"),
@@ -177,8 +177,8 @@ CAPITAL_ITEMS: dict[str, Item] = {
     "pretreatment": Item("pretreatment", "water in and out"),
     "brine_disposal": Item("brine disposal works", "water in and out"),
     "post_treatment": Item("post-treatment", "water in and out"),
-    "indirect": Item("indirect costs (engineering, permits, contingency)", "indirect"),
-    "given": Item("capital as given (capital_cost)", "given"),
+    "indirect": Item("engineering, permits, contingency", "indirect"),
+    "given": Item("capital_cost as given", "as given"),
 }
 
 #: O&M items per year, each adding to one line of the levelised cost

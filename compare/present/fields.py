@@ -105,7 +105,7 @@ RECORD_FIELDS: tuple[Field, ...] = (
 
 #: the lines of the levelized cost, in record ``details.cost_breakdown_per_m3``
 COST_LINES: tuple[Field, ...] = (
-    Field("cost_capital", "capital", "capital (recovered over the lifetime)", "{currency}/m3", "cost"),
+    Field("cost_capital", "capital", "capital recovery", "{currency}/m3", "cost"),
     Field("cost_fixed_om", "fixed_om", "maintenance and insurance", "{currency}/m3", "cost"),
     Field("cost_labour", "labour", "operating staff", "{currency}/m3", "cost"),
     Field("cost_membranes", "membranes", "membrane replacement", "{currency}/m3", "cost"),

@@ -125,7 +125,7 @@ class FOParameters:
                               lo=0.0)
     segments: Any = param("count", "40", "numerics: permeate steps along the exchanger", expect="a number 4-400",
                      lo=4, hi=400)
-    capital_cost: Any = param("money", OPTIONAL, "built up from the design's equipment (compare/costing.py); a "
+    capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
                               "value replaces the build-up", "day/m^3",
                               'a cost per capacity such as "1500 USD/(m^3/day)"', lo=0.0)
     fixed_om: Any = param("fraction", "0.025", "common practice: maintenance and insurance 2-3 % of capital per year",

@@ -96,7 +96,7 @@ class MEDParameters:
     suction_effect: Any = param("count", OPTIONAL, "tool default: the last effect", expect="an effect number 1-16", lo=1, hi=16)
     electricity: Any = param("quantity", "1.8 kWh/m^3", "common practice: MED pumping 1.5-2.5 kWh/m3", "J/m^3",
                         'an energy per volume such as "1.8 kWh/m^3"', lo=0.0)
-    capital_cost: Any = param("money", OPTIONAL, "built up from the design's equipment (compare/costing.py); a "
+    capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
                               "value replaces the build-up", "day/m^3",
                               'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0)
     fixed_om: Any = param("fraction", "0.02", "common practice: maintenance and insurance 1.5-2.5 % of capital per "

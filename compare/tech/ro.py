@@ -109,7 +109,7 @@ class ROParameters:
                               'an energy per volume such as "0.8 kWh/m^3"', lo=0.0)
     segments: Any = param("count", "20", "numerics: permeate steps per stage (0.1 % convergence, tested)",
                      expect="a number of segments 4-400", lo=4, hi=400)
-    capital_cost: Any = param("money", OPTIONAL, "built up from the design's equipment (compare/costing.py); a "
+    capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
                               "value replaces the build-up", "day/m^3",
                               'a cost per capacity such as "1200 USD/(m^3/day)"', lo=0.0)
     fixed_om: Any = param("fraction", "0.02", "common practice: maintenance and insurance 1.5-2.5 % of capital per "
