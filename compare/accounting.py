@@ -17,6 +17,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from . import costing
 from .flags import Flag, infeasible_mask, reduce_cases
 from .tech.base import Feed, Performance
 from .thermo.floor import least_work
@@ -138,7 +139,8 @@ class Site:
 DESIGN_DEPENDENT = ("electricity", "heat", "work_equivalent", "second_law_efficiency", "power", "heat_power",
                     "annual_electricity", "annual_heat", "emissions", "annual_emissions", "levelized_cost",
                     "cost_capital", "cost_fixed_om", "cost_electricity", "cost_heat", "work_equivalent_of_heat",
-                    "capital")
+                    "capital", "cost_labour", "cost_membranes", "cost_chemicals", "cost_brine_disposal", "annual_om",
+                    "specific_capital")
 
 
 @dataclass(frozen=True)
@@ -173,6 +175,14 @@ class Accounts:
     cost_heat: np.ndarray
     capital: np.ndarray
     annual_production: np.ndarray
+    cost_labour: np.ndarray = None
+    cost_membranes: np.ndarray = None
+    cost_chemicals: np.ndarray = None
+    cost_brine_disposal: np.ndarray = None
+    annual_om: np.ndarray = None           # operation and maintenance per year [currency/year], energy excluded
+    specific_capital: np.ndarray = None    # capital per unit of capacity [currency s/m^3]
+    capital_items: dict = field(default_factory=dict)   # item -> (N,) [currency] (costing.CAPITAL_ITEMS)
+    om_items: dict = field(default_factory=dict)        # item -> (N,) [currency/year] (costing.OM_ITEMS)
     details: dict = field(default_factory=dict)
     flags: tuple = ()
 
@@ -185,7 +195,7 @@ def work_equivalent_factor(T_heat, site: Site):
 
 
 def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site: Site, capital_cost,
-            fixed_om) -> Accounts:
+            fixed_om, costs: costing.Costs | None = None) -> Accounts:
     """The accounts of one technology's :class:`Performance` on N cases by M periods.
 
     Adds the checks every technology gets: heat colder than the technology needs makes it infeasible (code
@@ -197,6 +207,8 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     ----------
     capital_cost : case or scalar, capital per unit of capacity [currency day/m^3] (money per m^3/day)
     fixed_om : case or scalar, fixed O&M as a share of capital per year [1/year]
+    costs : the capital and O&M build-up (:func:`compare.costing.build`); when given, it replaces ``capital_cost``
+        and ``fixed_om`` and its O&M causes become lines of the levelised cost
     """
     n, M = site.capacity.size, site.weights.size
     shape = (n, M)
@@ -233,10 +245,14 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
 
     e_y, q_y, wq_y, lw_y = per_case(e), per_case(q), per_case(work_heat), per_case(lw)
     we_y = e_y + wq_y
-    capital = np.broadcast_to(np.asarray(capital_cost, dtype=float), (n,)) * site.capacity * 86400.0
-    om_share = np.broadcast_to(np.asarray(fixed_om, dtype=float), (n,))
-    cost = levelized_cost(capital, om_share, site.annual_production, site.crf, e_y, site.electricity_price, q_y,
-                          site.heat_price)
+    if costs is None:
+        capital = np.broadcast_to(np.asarray(capital_cost, dtype=float), (n,)) * site.capacity * 86400.0
+        om_share = np.broadcast_to(np.asarray(fixed_om, dtype=float), (n,))
+        costs = costing.Costs({"given": capital}, {"maintenance": capital * om_share}, built=False)
+    capital = costs.total_capital
+    lines = costing.cost_lines(costs, site.annual_production, site.crf)
+    cost = {**lines, "electricity": e_y * site.electricity_price, "heat": q_y * site.heat_price}
+    cost["total"] = sum(cost.values())
     emissions = e_y * site.electricity_emissions + q_y * site.heat_emissions
     with np.errstate(invalid="ignore", divide="ignore"):
         design = {
@@ -246,11 +262,16 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
             "emissions": emissions, "annual_emissions": emissions * site.annual_production,
             "levelized_cost": cost["total"], "cost_capital": cost["capital"], "cost_fixed_om": cost["fixed_om"],
             "cost_electricity": cost["electricity"], "cost_heat": cost["heat"], "capital": capital,
+            "cost_labour": cost["labour"], "cost_membranes": cost["membranes"], "cost_chemicals": cost["chemicals"],
+            "cost_brine_disposal": cost["brine_disposal"], "annual_om": costs.total_annual,
+            "specific_capital": capital / site.capacity,
         }
         heat_T = np.where(uses_heat.any(axis=1), np.where(uses_heat, Th, -np.inf).max(axis=1), np.nan)
     design = {k: np.where(feasible, v, np.nan) for k, v in design.items()}
+    items = {"capital_items": {k: np.where(feasible, v, np.nan) for k, v in costs.capital.items()},
+             "om_items": {k: np.where(feasible, v, np.nan) for k, v in costs.annual.items()}}
     details = {k: per_case(np.asarray(v, dtype=float)) for k, v in perf.details.items()}
     return Accounts(technology=name, feasible=feasible, recovery=per_case(r), product_salinity=per_case(Sp),
                     brine_salinity=per_case(Sb), heat_temperature=heat_T, least_work=lw_y,
                     annual_production=np.asarray(site.annual_production, dtype=float), details=details,
-                    flags=tuple(flags), **design)
+                    flags=tuple(flags), **design, **items)

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import accounting as acc
+from . import costing
 from .errors import InputError
 from .flags import Flag, reduce_cases
 from .scenario import FEED_TEMPERATURE, Scenario
@@ -113,14 +114,15 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
                         per_case(fl.least_work_zero_recovery), per_case(S_f), per_case(T), model.name,
                         tuple(reduce_cases(fl.flags, (n, M), axis=1)))
 
+    site_costs = costing.site_costs(get, case)
     feed = Feed(model, water, S_f, T, site.product_target, site.heat_temperature, grid(capacity[:, None]))
     results = []
     for name in scenario.technologies:
         tech = TECHNOLOGIES[name]
         params = build(tech.parameters, lambda key: _value(scenario, varied, f"{name}.{key}", n))
         perf = tech.evaluate(feed, params)
-        results.append(acc.account(name, perf, model, feed, site, case(params.capital_cost),
-                                   case(params.fixed_om)))
+        costs = costing.build(name, perf, params, site_costs, capacity, weights, site.annual_production)
+        results.append(acc.account(name, perf, model, feed, site, None, None, costs=costs))
     return RunResult(scenario, n, floor, tuple(results), varied)
 
 

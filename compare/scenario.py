@@ -79,6 +79,11 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
     },
 }
 
+# the site-wide cost keys ([plant], [brine]) live beside the cost build-up
+from .costing import SITE_SECTIONS as _COST_SECTIONS  # noqa: E402
+
+SITE_SECTIONS.update(_COST_SECTIONS)
+
 _GSD = Spec("fraction", None, "", expect="a geometric standard deviation above 1, e.g. 1.2", lo=1.0, lo_open=True)
 _TEMPERATURE_SPREAD = Spec("quantity", None, "", "K", 'a temperature difference such as "2 K"', lo=0.0)
 DISTRIBUTIONS = {"triangular": ("low", "mode", "high"), "uniform": ("low", "high"), "normal": ("mean", "sd"),
@@ -211,7 +216,8 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
 
     values: dict[str, dict[str, Any]] = {}
     ctx = {"currency": "USD", "temperature": 298.15, "water": "seawater"}
-    order = ["finance", "feed", "site", "product", "energy"] + [s for s in specs if s not in SITE_SECTIONS]
+    first = ["finance", "feed", "site", "product", "energy"]
+    order = first + [s for s in specs if s not in first]
     for sec in order:
         body = data.get(sec, {})
         if not isinstance(body, dict):

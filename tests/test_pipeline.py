@@ -61,6 +61,7 @@ def test_table_layout_regression(toy, tmp_path, capsys):
     out = capsys.readouterr().out
     headings = [line for line in out.splitlines() if line.startswith("## ")]
     assert headings == ["## Floor", "## Energy", "## Site totals", "## Emissions", "## Cost",
+                        "## Capital by item [USD]", "## Operation and maintenance by cause [USD/m3]",
                         "## Toy: design figures"]
     assert "| electricity [kWh/m3] |" in out and "| levelized cost of water [USD/m3] |" in out
     assert "| toy figure [bar] |" in out
@@ -95,15 +96,24 @@ def test_capital_recovery_factor_against_interest_tables():
 
 def test_levelised_cost_worked_through(toy):
     # A worked example done by hand (our own arithmetic, independent of the code path): 20,000 m3/day, availability
-    # 0.95, 1000 USD per m3/day, fixed O&M 3 %/yr, 7 %, 25 years, electricity 0.08 USD/kWh.
+    # 0.95, 1000 USD per m3/day (given, so no build-up), maintenance 3 %/yr, 7 %, 25 years, electricity 0.08
+    # USD/kWh; staff 0.04 USD/m3 at 100,000 m3/day scaled by (20,000/100,000)^(0.5 - 1); a sea outfall at 0.01 USD
+    # per m3 of brine, the toy's recovery 0.4 giving 1.5 m3 of brine per m3 of product.
     s = scenario(toy={"electricity": "1.8 kWh/m^3", "efficiency": 1.0})
     rec = records(evaluate(s))[0]
     capital = 1000 * 20000
     production = 20000 * 0.95 * 365
     crf = 0.07 * 1.07 ** 25 / (1.07 ** 25 - 1)
     e_kwh = rec["electricity_kwh_per_m3"]
-    expected = capital * (crf + 0.03) / production + e_kwh * 0.08
+    labour = 0.04 * (20000 / 100000) ** -0.5
+    brine = 0.01 * (1 / 0.4 - 1)
+    expected = capital * (crf + 0.03) / production + e_kwh * 0.08 + labour + brine
     assert rec["levelized_cost_per_m3"] == pytest.approx(expected, rel=1e-9)
+    lines = rec["details"]["cost_breakdown_per_m3"]
+    assert sum(v for v in lines.values()) == pytest.approx(expected, rel=1e-12)
+    assert lines["labour"] == pytest.approx(labour, rel=1e-12)
+    assert lines["brine_disposal"] == pytest.approx(brine, rel=1e-12)
+    assert rec["details"]["capital_breakdown"] == {"given": pytest.approx(capital, rel=1e-12)}
 
 
 def test_exergy_and_lost_work():

@@ -51,7 +51,11 @@ def test_samples_summary_carries_intervals(toy):
         assert lo <= row[q] <= hi
     cost = body["ranking"][0]
     assert cost["first_share_ci"]["toy"] == pytest.approx(sw.wilson(400, 400))
-    assert "in every" in cost["separation"]["statement"] or "no other" in cost["separation"]["statement"]
+    assert "no other technology ranks first" in cost["separation"]["statement"]
+    from compare.present.tables import fmt_number, sweep_sections
+    rows = {r[0]: r[1] for r in sweep_sections(body)[0][2]}
+    lo, hi = row["ci"]["p50"]
+    assert rows["levelized cost p50, its 95 % interval [USD/m3]"] == f"{fmt_number(lo)} to {fmt_number(hi)}"
 
 
 def test_grid_points_table_file_and_xarray(toy, tmp_path, capsys):

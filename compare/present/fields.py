@@ -52,6 +52,8 @@ UNITS: dict[str, Unit] = {
     "m3/day": Unit(86400.0, "m3_per_day"),
     "{currency}": Unit(1.0, ""),
     "{currency}/m3": Unit(1.0, "per_m3"),
+    "{currency}/yr": Unit(1.0, ""),
+    "{currency}/(m3/day)": Unit(1 / 86400.0, ""),
 }
 
 
@@ -103,10 +105,22 @@ RECORD_FIELDS: tuple[Field, ...] = (
 
 #: the lines of the levelized cost, in record ``details.cost_breakdown_per_m3``
 COST_LINES: tuple[Field, ...] = (
-    Field("cost_capital", "capital", "capital", "{currency}/m3", "cost"),
-    Field("cost_fixed_om", "fixed_om", "fixed operation and maintenance", "{currency}/m3", "cost"),
+    Field("cost_capital", "capital", "capital recovery", "{currency}/m3", "cost"),
+    Field("cost_fixed_om", "fixed_om", "maintenance and insurance", "{currency}/m3", "cost"),
+    Field("cost_labour", "labour", "operating staff", "{currency}/m3", "cost"),
+    Field("cost_membranes", "membranes", "membrane replacement", "{currency}/m3", "cost"),
+    Field("cost_chemicals", "chemicals", "chemicals (and draw make-up)", "{currency}/m3", "cost"),
+    Field("cost_brine_disposal", "brine_disposal", "brine disposal", "{currency}/m3", "cost"),
     Field("cost_electricity", "electricity", "electricity", "{currency}/m3", "cost"),
     Field("cost_heat", "heat", "heat", "{currency}/m3", "cost"),
+)
+
+#: the cost totals shown under the levelised cost (record ``details``)
+COST_TOTALS: tuple[Field, ...] = (
+    Field("capital", "capital", "total capital", "{currency}", "cost"),
+    Field("specific_capital", "capital_per_m3_day", "capital per unit of capacity", "{currency}/(m3/day)", "cost"),
+    Field("annual_om", "annual_om", "operation and maintenance per year (energy excluded)", "{currency}/yr",
+          "cost"),
 )
 
 #: site figures of every record's details
@@ -114,7 +128,7 @@ SITE_DETAILS: tuple[Field, ...] = (
     Field("work_equivalent_of_heat", "work_equivalent_of_heat_kwh_per_m3", "work equivalent of the heat",
           "kWh/m3", "energy"),
     Field("annual_production", "annual_production_m3", "production per year", "m3/yr", "site totals"),
-    Field("capital", "capital", "capital cost", "{currency}", "cost"),
+    *COST_TOTALS,
 )
 
 #: the floor of the feed (``floor`` of a compare record; the ``desal floor`` record adds recovery-dependent ones)

@@ -304,14 +304,15 @@ def sobol_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per
 def compare_figure(payloads: list[dict], folder) -> list[str]:
     """Per scenario, two panels: stacked bars per technology of electricity and the work equivalent of heat, with
     the least work of its own streams and the feed's floor marked; and the levelized cost stacked by its lines
-    (capital, fixed operation and maintenance, electricity, heat). Energy panels share their axis, cost panels
+    (capital, the operation and maintenance causes, electricity, heat). Energy panels share their axis, cost panels
     theirs."""
     plt = _plt()
     from .fields import COST_LINES
     n = max(1, len(payloads))
     fig, axes = plt.subplots(2, n, figsize=(3 + 3.2 * n, 8), squeeze=False)
     # electricity and heat keep their energy-panel colours in the cost stack
-    cost_colours = ("0.35", "0.7", "#4c72b0", "#dd8452")
+    greys = iter(("0.25", "0.4", "0.55", "0.7", "0.82", "0.9"))
+    cost_colours = [{"electricity": "#4c72b0", "heat": "#dd8452"}.get(f.name) or next(greys) for f in COST_LINES]
     currencies = []
     for p, (ax, cx) in zip(payloads, zip(axes[0], axes[1])):
         recs = p["results"]

@@ -52,6 +52,9 @@ def record(result, t, i: int) -> dict:
     rec["flags"] = [f.record() for f in flags]
     rec["details"] = {
         "cost_breakdown_per_m3": {f.name: value(getattr(t, f.attr)[i], f.unit) for f in COST_LINES},
+        "capital_breakdown": {k: value(v[i], "{currency}") for k, v in t.capital_items.items()},
+        "om_breakdown_per_m3": {k: value(v[i] / t.annual_production[i], "{currency}/m3")
+                                for k, v in t.om_items.items()},
         **{f.name: value(getattr(t, f.attr)[i], f.unit) for f in SITE_DETAILS},
         **details_record(t.technology, t.details, i),
     }

@@ -85,7 +85,7 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
     """(heading, columns, rows) per group of the side-by-side comparison (technologies as columns), then one section
     of design figures per technology, in words with units. Infeasible technologies show a dash for every figure
     that needs a working design, and their reasons."""
-    from ..present.fields import COST_LINES, FLOOR_FIELDS, RECORD_FIELDS, label, unit_label
+    from ..present.fields import COST_LINES, COST_TOTALS, FLOOR_FIELDS, RECORD_FIELDS, label, unit_label
     from ..present.records import detail_table
     from .fields import record_name
 
@@ -107,6 +107,9 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
             for line in COST_LINES:
                 groups["cost"].append([f"  {line.label}"] + [r["details"]["cost_breakdown_per_m3"][line.name]
                                                             for r in recs])
+            for total in COST_TOTALS:
+                groups["cost"].append([label(total, cur)] + [r["details"].get(total.name) for r in recs])
+    groups.update(build_up_sections(recs, cur))
     reasons = [[r["technology"], "; ".join(x["message"] for x in r.get("flags", []) if x["kind"] == "infeasible")]
                for r in recs if not r["feasible"]]
     for g, rows in groups.items():
@@ -123,6 +126,35 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
         if rows:
             sections.append((f"{r['technology']}: design figures", ["figure", "value"], rows))
     return sections
+
+
+def build_up_rows(recs: list[dict], key: str, items: dict) -> list[list]:
+    """Rows of a cost build-up (``details[key]``: item -> value) with technologies as columns, grouped by cause: a
+    row naming the cause, then its items; items no technology has are left out."""
+    rows: list[list] = []
+    causes = dict.fromkeys(item.cause for item in items.values())
+    for cause in causes:
+        names = [n for n, item in items.items() if item.cause == cause
+                 and any(n in (r["details"].get(key) or {}) for r in recs)]
+        if not names:
+            continue
+        rows.append([f"{cause}:"] + [""] * len(recs))
+        for n in names:
+            rows.append([f"  {items[n].label}"] + [(r["details"].get(key) or {}).get(n) for r in recs])
+    return rows
+
+
+def build_up_sections(recs: list[dict], currency: str) -> dict:
+    """The capital by item [currency] and the O&M by cause [currency/m3], as table groups."""
+    from ..costing import CAPITAL_ITEMS, OM_ITEMS
+    out = {}
+    cap = build_up_rows(recs, "capital_breakdown", CAPITAL_ITEMS)
+    if cap:
+        out[f"capital by item [{currency}]"] = cap
+    om = build_up_rows(recs, "om_breakdown_per_m3", OM_ITEMS)
+    if om:
+        out[f"operation and maintenance by cause [{currency}/m3]"] = om
+    return out
 
 
 def print_compare(console: Console, payload: dict) -> None:
@@ -183,6 +215,15 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
         rows.append([f"{label} [{unit}]"] + [cell(by[(t, m)]) for t in techs])
+    if not grid and techs:
+        def p50_ci(row):
+            ci = (row.get("ci") or {}).get("p50")
+            if not ci:
+                return "-"
+            return f"{fmt_number(ci[0]) if ci[0] is not None else '?'} to {fmt_number(ci[1]) if ci[1] is not None else '?'}"
+        unit = by[(techs[0], "levelized_cost_per_m3")]["unit"]
+        rows.append([f"levelized cost p50, its 95 % interval [{unit}]"]
+                    + [p50_ci(by[(t, "levelized_cost_per_m3")]) for t in techs])
     fl = by.get(("floor", "least_work_kwh_per_m3_zero_recovery"))
     if fl:
         rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl)] * len(techs))

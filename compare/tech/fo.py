@@ -52,7 +52,7 @@ from typing import Any
 
 import numpy as np
 
-from ..spec import param, specs_of, subrecord, table
+from ..spec import OPTIONAL, param, specs_of, subrecord, table
 from ..thermo import brine as _brine
 from ..thermo import water as _water
 from ..thermo.activity import get_model
@@ -68,7 +68,7 @@ LMH = 1e-3 / 3600.0
 COLD_END_APPROACH = 5.0   # [K] thermal regenerator's last condenser above the feed (practice, no source)
 
 #: RO keys that the FO regenerator takes from ``[fo.regenerator]``, with the defaults it changes
-_RO_OWN = {"recovery", "capital_cost", "fixed_om"}
+_RO_OWN = {"recovery", "capital_cost", "fixed_om", "pretreatment_cost", "chemicals_cost"}
 _RO_FIELDS = set(specs_of(_ro.ROParameters)) - _RO_OWN
 _RO_DEFAULTS = {
     "other_electricity": ("0 kWh/m^3", "tool default: the FO plant's own other_electricity covers intake and treatment"),
@@ -87,6 +87,9 @@ RegeneratorParameters = subrecord(
                                    hi=T0_C + 200)),
         ("temperature_difference", param("quantity", "3 K", "common practice: a few K per effect (thermal only)", "K",
                                          'a temperature difference such as "3 K"', lo=0.0, lo_open=True)),
+        ("thermal_regenerator_cost", param("money", "900 USD/(m^3/day)", "from memory: a low-temperature evaporator, "
+                                           "700-1500 USD per m3/day of product, at 100,000 m3/day (thermal only)",
+                                           "s/m^3", 'a cost per capacity such as "900 USD/(m^3/day)"', lo=0.0)),
     ], source_prefix="RO regenerator: ")
 RegeneratorParameters.__doc__ = ("Parameters of [fo.regenerator]: the RO keys (less recovery and cost) for "
                                  "regeneration = \"ro\", and the thermal screening keys for \"thermal\".")
@@ -122,10 +125,24 @@ class FOParameters:
                               lo=0.0)
     segments: Any = param("count", "40", "numerics: permeate steps along the exchanger", expect="a number 4-400",
                      lo=4, hi=400)
-    capital_cost: Any = param("money", "1500 USD/(m^3/day)", "from memory: FO with regeneration, above RO", "day/m^3",
-                         'a cost per capacity such as "1500 USD/(m^3/day)"', lo=0.0)
-    fixed_om: Any = param("fraction", "0.04", "common practice: fixed O&M about 3-5 % of capital per year",
-                     expect='a share of capital per year such as 0.04 or "4 %"', lo=0.0, hi=1.0)
+    capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
+                              "value replaces the build-up", "day/m^3",
+                              'a cost per capacity such as "1500 USD/(m^3/day)"', lo=0.0)
+    fixed_om: Any = param("fraction", "0.025", "common practice: maintenance and insurance 2-3 % of capital per year",
+                          expect='a share of capital per year such as 0.025 or "2.5 %"', lo=0.0, hi=1.0)
+    membrane_price: Any = param("money", "40 USD/m^2", "from memory: FO modules cost about twice RO elements per m2",
+                                "1/m^2", 'a price per area such as "40 USD/m^2"', lo=0.0)
+    membrane_life: Any = param("quantity", "5 year", "common practice: as RO elements, 5-7 years", "year",
+                               'a life such as "5 year"', lo=0.0, lo_open=True)
+    draw_price: Any = param("money", "0.1 USD/kg", "from memory: bulk sodium chloride, 50-150 USD per tonne", "1/kg",
+                            'a price per mass of draw solute such as "0.1 USD/kg"', lo=0.0)
+    draw_holdup: Any = param("quantity", "0.5 h", "common practice: pipes and tanks hold about half an hour of the "
+                             "draw flow", "s", 'a time such as "0.5 h"', lo=0.0)
+    pretreatment_cost: Any = param("money", "60 USD/(m^3/day)", "from memory: FO fouls less than RO; cartridge "
+                                   "filtration and dosing, 40-100 USD per m3/day of feed, at 100,000 m3/day",
+                                   "s/m^3", 'a cost per feed capacity such as "60 USD/(m^3/day)"', lo=0.0)
+    chemicals_cost: Any = param("money", "0.02 USD/m^3", "from memory: antiscalant and cleaning, 0.01-0.03 USD per "
+                                "m3 of feed", "1/m^3", 'a cost per feed volume such as "0.02 USD/m^3"', lo=0.0)
     regenerator: Any = table(RegeneratorParameters)
 
 
@@ -278,7 +295,7 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
         # the regenerator sees FO's flattened cases: varied keys (arrays of the case shape) are flattened alike
         reg_p = {k: (b(v) if isinstance(v, np.ndarray) else v) for k, v in values(reg).items()
                  if k in _RO_FIELDS}
-        perf = _ro.evaluate(reg_feed, _ro.ROParameters(**reg_p, recovery=r_ro, capital_cost=0.0, fixed_om=0.0))
+        perf = _ro.evaluate(reg_feed, _ro.ROParameters(**reg_p, recovery=r_ro, **dict.fromkeys(_RO_OWN - {"recovery"}, 0.0)))
         electricity = perf.electricity + b(p.circulation_electricity) + b(p.other_electricity)
         heat = np.zeros(size)
         heat_T = np.full(size, np.nan)

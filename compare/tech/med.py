@@ -96,10 +96,23 @@ class MEDParameters:
     suction_effect: Any = param("count", OPTIONAL, "tool default: the last effect", expect="an effect number 1-16", lo=1, hi=16)
     electricity: Any = param("quantity", "1.8 kWh/m^3", "common practice: MED pumping 1.5-2.5 kWh/m3", "J/m^3",
                         'an energy per volume such as "1.8 kWh/m^3"', lo=0.0)
-    capital_cost: Any = param("money", "1800 USD/(m^3/day)", "from memory: MED plants, about 1500-2500 USD per m3/day",
-                         "day/m^3", 'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0)
-    fixed_om: Any = param("fraction", "0.035", "common practice: fixed O&M about 3-4 % of capital per year",
-                     expect='a share of capital per year such as 0.035 or "3.5 %"', lo=0.0, hi=1.0)
+    capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
+                              "value replaces the build-up", "day/m^3",
+                              'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0)
+    fixed_om: Any = param("fraction", "0.02", "common practice: maintenance and insurance 1.5-2.5 % of capital per "
+                          "year", expect='a share of capital per year such as 0.02 or "2 %"', lo=0.0, hi=1.0)
+    heat_transfer_price: Any = param("money", "120 USD/m^2", "from memory: installed evaporator with shells, tubes "
+                                     "and vacuum system, 100-300 USD per m2 of heat-transfer area", "1/m^2",
+                                     'a price per area such as "120 USD/m^2"', lo=0.0)
+    ejector_price: Any = param("money", "50000 USD/(kg/s)", "from memory: steam ejectors are small next to the "
+                               "evaporator; per kg/s of motive steam, at 1 kg/s (plant.equipment_scale_exponent)",
+                               "s/kg", 'a price per steam flow such as "50000 USD/(kg/s)"', lo=0.0)
+    pretreatment_cost: Any = param("money", "30 USD/(m^3/day)", "from memory: screening, antiscalant dosing and "
+                                   "deaeration, 20-50 USD per m3/day of feed, at 100,000 m3/day", "s/m^3",
+                                   'a cost per feed capacity such as "30 USD/(m^3/day)"', lo=0.0)
+    chemicals_cost: Any = param("money", "0.01 USD/m^3", "from memory: antiscalant and antifoam, about 0.01 USD per "
+                                "m3 of evaporator feed", "1/m^3", 'a cost per feed volume such as "0.01 USD/m^3"',
+                                lo=0.0)
 
 
 def u_evaporator(T):

@@ -55,7 +55,7 @@ import numpy as np
 from dataclasses import dataclass
 from typing import Any
 
-from ..spec import efficiency, param
+from ..spec import OPTIONAL, efficiency, param
 from ..thermo import brine as _brine
 from ..thermo.floor import osmotic_table
 from ..flags import Flag
@@ -109,10 +109,30 @@ class ROParameters:
                               'an energy per volume such as "0.8 kWh/m^3"', lo=0.0)
     segments: Any = param("count", "20", "numerics: permeate steps per stage (0.1 % convergence, tested)",
                      expect="a number of segments 4-400", lo=4, hi=400)
-    capital_cost: Any = param("money", "1200 USD/(m^3/day)", "from memory: seawater RO plants, about 1000-1500 USD per "
-                         "m3/day", "day/m^3", 'a cost per capacity such as "1200 USD/(m^3/day)"', lo=0.0)
-    fixed_om: Any = param("fraction", "0.03", "common practice: fixed O&M about 2-4 % of capital per year",
-                     expect='a share of capital per year such as 0.03 or "3 %"', lo=0.0, hi=1.0)
+    capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
+                              "value replaces the build-up", "day/m^3",
+                              'a cost per capacity such as "1200 USD/(m^3/day)"', lo=0.0)
+    fixed_om: Any = param("fraction", "0.02", "common practice: maintenance and insurance 1.5-2.5 % of capital per "
+                          "year", expect='a share of capital per year such as 0.02 or "2 %"', lo=0.0, hi=1.0)
+    membrane_price: Any = param("money", "20 USD/m^2", "from memory: an 8-inch seawater element (37 m2) about "
+                                "600-900 USD", "1/m^2", 'a price per area such as "20 USD/m^2"', lo=0.0)
+    membrane_life: Any = param("quantity", "5 year", "common practice: seawater elements replaced every 5-7 years",
+                               "year", 'a life such as "5 year"', lo=0.0, lo_open=True)
+    vessel_price: Any = param("money", "8000 USD", "from memory: a seawater pressure vessel (3,000-4,000 USD) with its "
+                              "share of racks and manifold piping", None, 'a price per vessel such as "8000 USD"',
+                              lo=0.0)
+    high_pressure_pump_price: Any = param("money", "900 USD/kW", "from memory: duplex-steel high-pressure pumps with "
+                                          "motors and drives, 600-1200 USD/kW, at 1 MW (plant.equipment_scale_exponent)",
+                                          "1/W", 'a price per power such as "900 USD/kW"', lo=0.0)
+    energy_recovery_price: Any = param("money", "1500 USD/(m^3/h)", "from memory: isobaric exchangers installed, "
+                                       "1,000-2,000 USD per m3/h of brine (also used for a turbine)", "s/m^3",
+                                       'a price per brine flow such as "1500 USD/(m^3/h)"', lo=0.0)
+    pretreatment_cost: Any = param("money", "150 USD/(m^3/day)", "from memory: media filtration or ultrafiltration "
+                                   "with dosing, 100-250 USD per m3/day of feed, at 100,000 m3/day", "s/m^3",
+                                   'a cost per feed capacity such as "150 USD/(m^3/day)"', lo=0.0)
+    chemicals_cost: Any = param("money", "0.03 USD/m^3", "from memory: coagulant, antiscalant, acid and cleaning, "
+                                "0.02-0.05 USD per m3 of feed", "1/m^3", 'a cost per feed volume such as '
+                                '"0.03 USD/m^3"', lo=0.0)
 
 #: share of the membrane area in each stage (the usual tapered arrays)
 STAGE_SHARES = {1: (1.0,), 2: (2 / 3, 1 / 3), 3: (4 / 7, 2 / 7, 1 / 7)}

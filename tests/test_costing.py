@@ -1,0 +1,182 @@
+"""The cost build-up: capital from each design's equipment, O&M from its causes (compare/costing.py), through the
+pipeline."""
+
+import tomllib
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from compare import costing, pipeline
+from compare.errors import InputErrors
+from compare.present.records import records
+from compare.scenario import resolve
+
+DEMOS = Path(__file__).resolve().parent.parent / "scenarios"
+DAY = 86400.0
+
+
+def site(capacity="100000 m^3/day", salinity="35 g/kg", temperature="25 degC", only=None, **sections):
+    """A fictional seawater site with only the technologies in ``only`` enabled."""
+    data = {"name": "Cost Cove (fictional)", "site": {"capacity": capacity},
+            "feed": {"salinity": salinity, "temperature": temperature}}
+    for tech in ("ro", "med", "fo"):
+        data[tech] = {"enabled": only is None or tech in only}
+    for sec, body in sections.items():
+        data.setdefault(sec, {}).update(body)
+    return resolve(data, label="test")
+
+
+def alder_point(temperature="14 degC"):
+    """The Alder Point demo (EUR, 0.11 EUR/kWh) at one temperature near its year's middle, RO only."""
+    data = tomllib.loads((DEMOS / "alder-point.toml").read_text())
+    data.pop("claim", None)
+    data["feed"]["temperature"] = temperature
+    data["med"]["enabled"] = False
+    data["fo"]["enabled"] = False
+    return resolve(data, label="alder-point")
+
+
+def test_ro_cost_against_recovery_has_an_interior_minimum():
+    # A grid of recovery through the pipeline at a seawater demo site. Two trends make the optimum: per m3 of
+    # product, the costs that follow the feed (intake, pretreatment, energy recovery, brine works, chemicals) fall as
+    # recovery rises (less water taken per m3), while electricity rises (the feed pressure must exceed the brine's
+    # rising osmotic pressure). The membrane area, set by capacity over the design flux, does not change with recovery.
+    s = alder_point()
+    r = np.linspace(0.30, 0.62, 9)
+    ro = pipeline.evaluate(s, {"ro.recovery": r}).technologies[0]
+    assert ro.feasible.all()
+    lcow = ro.levelized_cost
+    best = int(np.argmin(lcow))
+    assert 0 < best < r.size - 1, lcow                       # an interior minimum
+    assert lcow[best] < lcow[0] - 0.05 and lcow[best] < lcow[-1] - 0.005
+    feed_side = ro.cost_capital + ro.cost_chemicals + ro.cost_brine_disposal
+    assert np.all(np.diff(feed_side) < 0)                    # feed-side costs fall with recovery
+    assert np.all(np.diff(ro.cost_electricity[2:]) > 0)      # electricity rises (above 38 %)
+    assert np.all(np.diff(ro.electricity[2:]) > 0)
+    # the optimum sits where the two slopes balance: electricity's rise overtakes the feed side's fall
+    assert np.diff(ro.cost_electricity)[-1] > -np.diff(feed_side)[-1]
+    assert np.diff(ro.cost_electricity)[0] < -np.diff(feed_side)[0]
+    np.testing.assert_allclose(ro.capital_items["membranes"], ro.capital_items["membranes"][0], rtol=1e-12)
+
+
+def test_ro_flux_trades_membranes_against_energy():
+    # Along the design flux, membrane cost falls (area = capacity / flux) and electricity rises (more driving
+    # pressure): the classic trade, with its optimum inside the grid. Halving the flux doubles the area, so the
+    # membrane capital and its replacement double exactly (identity).
+    s = alder_point()
+    flux = np.array([7.0, 10.0, 14.0, 18.0, 22.0]) / 3.6e6       # L/m2/h -> m/s
+    ro = pipeline.evaluate(s, {"ro.flux": flux}).technologies[0]
+    assert ro.feasible.all()
+    membranes = ro.capital_items["membranes"]
+    assert np.all(np.diff(membranes) < 0) and np.all(np.diff(ro.electricity) > 0)
+    assert 0 < int(np.argmin(ro.levelized_cost)) < flux.size - 1, ro.levelized_cost
+    assert membranes[0] / membranes[2] == pytest.approx(2.0, rel=1e-12)
+    replacement = ro.om_items["membrane_replacement"]
+    assert replacement[0] / replacement[2] == pytest.approx(2.0, rel=1e-12)
+    # the vessels follow the element count (rounded up to whole vessels)
+    vessels = ro.capital_items["pressure_vessels"]
+    assert vessels[0] / vessels[2] == pytest.approx(2.0, rel=2e-3)
+
+
+def test_med_capital_rises_with_effects():
+    # More effects share the same temperature range in smaller steps, so each needs more surface: the evaporator's
+    # capital rises with the effect count, while the heat per m3 falls. With few effects the down condenser rejects
+    # more heat, so the cooling water (taken through the intake) falls as effects are added: the plant's capital
+    # rises with effects once the evaporator outweighs that saving (here from 6 effects on).
+    s = site(only=("med",))
+    effects = np.array([4, 6, 8, 10, 12])
+    med = pipeline.evaluate(s, {"med.effects": effects}).technologies[0]
+    assert med.feasible.all()
+    assert np.all(np.diff(med.capital_items["evaporator"]) > 0)
+    assert np.all(np.diff(med.capital_items["intake"]) < 0)
+    assert np.all(np.diff(med.capital[1:]) > 0)
+    assert np.all(np.diff(med.heat) < 0)
+
+
+def test_default_build_up_lands_in_the_published_range():
+    # memory: reviews of desalination costs (e.g. Ghaffour, Missimer and Amy 2013, Desalination 309, 197-207) put
+    # the capital of large seawater plants at about 900-2,500 USD per m3/day for RO and 900-2,000 (up to about
+    # 2,500 for small units) for MED; loose bands around those, at 100,000 m3/day, 35 g/kg and 25 degC.
+    s = site(only=("ro", "med"))
+    recs = {r["technology"]: r for r in records(pipeline.evaluate(s))}
+    ro = recs["ro"]["details"]["capital_per_m3_day"]
+    med = recs["med"]["details"]["capital_per_m3_day"]
+    assert 800 <= ro <= 2000, ro
+    assert 900 <= med <= 2500, med
+    # economies of scale: a tenth of the size costs more per m3/day, but less than ten times as much in total
+    small = {r["technology"]: r for r in records(pipeline.evaluate(site(capacity="10000 m^3/day", only=("ro",))))}
+    assert small["ro"]["details"]["capital_per_m3_day"] > ro
+    assert small["ro"]["details"]["capital"] < recs["ro"]["details"]["capital"]
+
+
+def test_given_capital_cost_replaces_the_build_up_exactly():
+    built = pipeline.evaluate(site(only=("ro",))).technologies[0]
+    s = site(only=("ro",), ro={"capital_cost": "1234 USD/(m^3/day)"})
+    ro = pipeline.evaluate(s).technologies[0]
+    assert ro.capital[0] == pytest.approx(1234 * 100000, rel=1e-12)
+    assert set(ro.capital_items) == {"given"}
+    rec = records(pipeline.evaluate(s))[0]
+    assert rec["details"]["capital_per_m3_day"] == pytest.approx(1234, rel=1e-12)
+    # O&M still follows the design: the membranes are replaced whatever the capital figure
+    assert ro.om_items["membrane_replacement"][0] == built.om_items["membrane_replacement"][0]
+    assert ro.om_items["maintenance"][0] == pytest.approx(0.02 * 1234 * 100000, rel=1e-12)
+
+
+def test_breakdowns_add_up_for_every_technology():
+    recs = records(pipeline.evaluate(site(capacity="50000 m^3/day")))
+    for rec in recs:
+        d = rec["details"]
+        assert rec["feasible"], rec["technology"]
+        assert sum(d["cost_breakdown_per_m3"].values()) == pytest.approx(rec["levelized_cost_per_m3"], rel=1e-12)
+        assert sum(d["capital_breakdown"].values()) == pytest.approx(d["capital"], rel=1e-12)
+        production = d["annual_production_m3"]
+        assert sum(d["om_breakdown_per_m3"].values()) * production == pytest.approx(d["annual_om"], rel=1e-12)
+        assert set(d["capital_breakdown"]) <= set(costing.CAPITAL_ITEMS)
+        assert set(d["om_breakdown_per_m3"]) <= set(costing.OM_ITEMS)
+        assert d["capital_breakdown"]["indirect"] == pytest.approx(
+            0.35 * (d["capital"] - d["capital_breakdown"]["indirect"]), rel=1e-12)
+    fo = next(r for r in recs if r["technology"] == "fo")
+    # FO's membrane: the design's area at the default price
+    assert fo["details"]["capital_breakdown"]["membranes"] == pytest.approx(40 * fo["details"]["fo_membrane_area_m2"],
+                                                                            rel=1e-12)
+
+
+def test_brine_disposal_by_method():
+    # identity: per m3 of product, disposal costs its price per m3 of brine times the brine per product, (1 - r)/r;
+    # ponds are built by area, so their capital is linear in the brine flow (no economy of scale).
+    base = pipeline.evaluate(site(only=("ro",))).technologies[0]
+    pond = pipeline.evaluate(site(only=("ro",), brine={"disposal": "evaporation_pond"})).technologies[0]
+    r = 0.45
+    assert pond.cost_brine_disposal[0] - base.cost_brine_disposal[0] == pytest.approx((0.3 - 0.01) * (1 - r) / r,
+                                                                                      rel=1e-9)
+    brine_m3_day = 100000 * (1 / r - 1)
+    assert pond.capital_items["brine_disposal"][0] == pytest.approx(5000 * brine_m3_day, rel=1e-9)
+    assert pond.levelized_cost[0] > base.levelized_cost[0] + 1.0
+
+
+def test_infeasible_cases_have_no_cost_figures():
+    s = site(only=("ro",), salinity="70 g/kg")
+    rec = records(pipeline.evaluate(s))[0]
+    assert not rec["feasible"]
+    assert all(v is None for v in rec["details"]["capital_breakdown"].values())
+    assert rec["details"]["annual_om"] is None and rec["details"]["capital_per_m3_day"] is None
+
+
+def test_another_currency_needs_every_price():
+    data = tomllib.loads((DEMOS / "alder-point.toml").read_text())
+    del data["plant"]["pump_price"]
+    del data["ro"]["membrane_price"]
+    with pytest.raises(InputErrors) as err:
+        resolve(data, label="alder-point.toml")
+    text = str(err.value)
+    assert "plant.pump_price: the default (600 USD/kW) is in another currency; give a value in EUR" in text
+    assert "ro.membrane_price" in text
+
+
+def test_scaled_cost_follows_its_exponent():
+    # identity: the unit price holds at the reference size; doubling the size multiplies the cost by 2^n
+    assert costing.scaled(600.0, 1e6, 1e6, 0.7) == pytest.approx(600.0 * 1e6)
+    assert costing.scaled(600.0, 2e6, 1e6, 0.7) / costing.scaled(600.0, 1e6, 1e6, 0.7) == pytest.approx(2 ** 0.7)
+    assert costing.scaled(600.0, 0.0, 1e6, 0.7) == 0.0
+    np.testing.assert_allclose(costing.scaled(np.array([1.0, 2.0]), np.array([1.0, 4.0]), 1.0, 0.5), [1.0, 4.0])
