@@ -171,8 +171,8 @@ class OsmoticTable:
             S, T = np.broadcast_arrays(S, T)
         if S.ndim == 0:
             return self(S.reshape(1), T.reshape(1))[0]
-        if S.size >= _COMPILED_FROM:
-            kernel = _compiled()
+        if S.size >= _COMPILED_FROM or _KERNEL:
+            kernel = _compiled()                # once loaded (a sweep), small arrays use it too
             if kernel is not None:
                 out = np.empty(S.shape)
                 kernel(np.ascontiguousarray(S).reshape(-1), np.ascontiguousarray(T).reshape(-1), self._coef,
@@ -215,8 +215,8 @@ class OsmoticTable:
                      f"{self.T_MIN - 273.15:.0f}-{self.T_MAX - 273.15:.0f} degC); the edge value is used", bad)]
 
 
-#: arrays at least this large go through the compiled lookup when numba is installed (smaller ones: numpy, so that a
-#: single comparison does not pay numba's import)
+#: arrays at least this large load the compiled lookup when numba is installed; once loaded it serves every size
+#: (smaller arrays alone never import numba, so that a single comparison does not pay its import)
 _COMPILED_FROM = 4096
 
 

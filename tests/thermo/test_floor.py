@@ -144,10 +144,14 @@ def test_compiled_table_lookup_equals_the_numpy_one():
     T = np.concatenate([rng.uniform(270.0, 430.0, 6000), [300.0, 300.0, 300.0, 300.0, 300.0, np.nan]])
     compiled = tab(S, T)
     assert floor._compiled() is not None
-    saved = floor._COMPILED_FROM
+    small = tab(S[-8:], T[-8:])                              # once loaded, small arrays use it too
+    saved, kernel = floor._COMPILED_FROM, list(floor._KERNEL)
     floor._COMPILED_FROM = 10 ** 12
+    floor._KERNEL.clear()
     try:
         plain = tab(S, T)
     finally:
         floor._COMPILED_FROM = saved
+        floor._KERNEL[:] = kernel
     np.testing.assert_array_equal(compiled, plain)
+    np.testing.assert_array_equal(small, plain[-8:])
