@@ -43,9 +43,9 @@ from .phreeqc import Composition, IONS, _phreeqc, phreeqc_input
 T_GRID = T0_C + np.arange(0.0, 100.1, 10.0)
 #: the table reaches salinities to this mass fraction [kg/kg] and molality factors to K_MAX
 S_TABLE_MAX = 0.25
-K_MIN, K_MAX, N_CF = 0.5, 100.0, 40
-#: points per table interval used to find where a mineral reaches its limit
-_FINE = 8
+K_MIN, K_MAX, N_CF = 0.5, 100.0, 24
+#: points per table interval scanned to find where a mineral reaches its limit (then one secant step)
+_FINE = 4
 
 #: number of PHREEQC batch runs made by this module (tests and benchmarks read it)
 RUNS = {"tables": 0}
@@ -166,7 +166,7 @@ class ScalingTable:
 
     def max_concentration_factor(self, T, limits: dict[str, Limit]):
         """The highest salinity ratio CF that keeps every limited mineral under its limit at temperature ``T``
-        [K], and the index (into ``names``) of the mineral that sets it.
+        [K] (limit values may be arrays of T's shape), and the index (into ``names``) of the mineral that sets it.
 
         Returns
         -------
@@ -183,24 +183,30 @@ class ScalingTable:
         grid = np.linspace(self.ln_cf[0], self.ln_cf[-1], (len(self.ln_cf) - 1) * _FINE + 1)
         found = np.full((len(names),) + T.shape, hi)
         for j, m in enumerate(names):
-            lim = limits[m]
+            value = np.broadcast_to(np.asarray(limits[m].value, dtype=float), T.shape)
             if m == SILICA:
                 # concentration limit: c = w CF rho(S_ref CF, T); a fixed point converges in a few steps
-                cf = np.full(T.shape, lim.value / (self.silica_fraction * 1000.0))
+                cf = value / (self.silica_fraction * 1000.0)
                 for _ in range(4):
                     rho = self.silica(cf, T) / (self.silica_fraction * cf)
-                    cf = lim.value / (self.silica_fraction * rho)
+                    cf = value / (self.silica_fraction * rho)
                 found[j] = np.clip(cf, lo, hi)
                 continue
-            si = self.saturation_index(m, np.exp(grid)[None, :], T.reshape(-1, 1)[..., :] * np.ones((1, grid.size)))
-            si = si.reshape(T.size, grid.size) - lim.value
+            # the SI on a fine grid of ln CF at each case's temperature, less the limit
+            Tf, vf = T.reshape(-1, 1), value.reshape(-1, 1)
+            si = self.saturation_index(m, np.exp(grid)[None, :], Tf) - vf
             over = si > 0
             first = np.argmax(over, axis=1)
             anywhere = over.any(axis=1)
             i1 = np.maximum(first, 1)
-            a, b = si[np.arange(T.size), i1 - 1], si[np.arange(T.size), i1]
+            rows = np.arange(T.size)
+            a, b = si[rows, i1 - 1], si[rows, i1]
             frac = np.where(b > a, -a / np.where(b > a, b - a, 1.0), 0.0)
             x = grid[i1 - 1] + np.clip(frac, 0.0, 1.0) * (grid[i1] - grid[i1 - 1])
+            # one secant step on the spline itself, with the bracket's slope
+            slope = (b - a) / (grid[i1] - grid[i1 - 1])
+            fx = self.saturation_index(m, np.exp(x), T.ravel()) - value.ravel()
+            x = np.clip(x - fx / np.where(slope > 0, slope, np.inf), grid[i1 - 1], grid[i1])
             x = np.where(first == 0, grid[0], x)
             found[j] = np.where(anywhere, np.exp(x), hi).reshape(T.shape)
         k = np.argmin(found, axis=0)
