@@ -34,7 +34,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-
 from .constants import M_W, T0_C
 from .model import ModelError
 from .phreeqc import Composition, IONS, _phreeqc, phreeqc_input
