@@ -2,15 +2,17 @@
 indices of the concentrate, the limiting mineral, the highest recovery under every limit) and the water the site
 takes in and sends back. Pure and vectorised, SI in and out; the pipeline applies it to every record.
 
-A technology says where its concentrate is most prone to scale through its design figures (``details``):
+A technology says where its concentrate is most prone to scale by naming design figures of its ``details`` in its
+registration (``Technology.concentrate``, role -> detail name):
 
-``scaling_polarisation``
-    concentration at the membrane wall over the bulk brine at the concentrate end [-] (RO and FO; 1 when absent);
-``scaling_temperatures``
-    not a detail but the technology's brine temperatures: the hottest brine (``hottest_brine_temperature`` [K]; MED:
-    the top brine) and the coldest (``brine_temperature`` [K], the brine leaving); both are checked and the worse
-    counts, since calcite and calcium sulfates grow less soluble when hot and silica when cold. Without them, the
-    feed temperature.
+``wall_salinity``
+    the brine at the membrane wall at the concentrate end [kg/kg] (RO: the outlet, with its local flux; FO); the
+    polarisation is its ratio to the brine leaving. Without it, the brine itself.
+``hottest_brine_temperature``, ``brine_temperature``
+    the hottest brine (MED: the top brine) and the brine leaving [K]; both are checked and the worse counts, since
+    calcite and calcium sulfates grow less soluble when hot and silica when cold. Without them, the feed temperature.
+``intake_per_product``
+    water drawn per kg of product when the plant takes in more than its process feed (MED's cooling water).
 
 The highest recovery follows from the salt balance with the brine at its limit: with CF_max the limiting salinity
 ratio at the wall and beta the polarisation, S_b,max = CF_max S_ref / beta and r_max = (S_b,max - S_f) /
@@ -25,10 +27,21 @@ import numpy as np
 
 from .thermo.scaling import SILICA, Limit, ScalingTable
 
-POLARISATION = "scaling_polarisation"
+WALL = "wall_salinity"
 HOTTEST = "hottest_brine_temperature"
 BRINE_TEMPERATURE = "brine_temperature"
 INTAKE = "intake_per_product"
+
+
+@dataclass(frozen=True)
+class Chemistry:
+    """What the scaling check needs of the site: the composition's table, the limits (values scalar or per case),
+    and whether a recovery above the limit is ``"infeasible"`` or a ``"warning"``."""
+
+    table: ScalingTable
+    limits: dict
+    above_limit: str
+    antiscalant: bool
 
 
 @dataclass(frozen=True)
@@ -113,7 +126,7 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
     rs = lambda x: np.asarray(x).reshape(shape)  # noqa: E731
     nan = lambda x: rs(np.where(ok, x, np.nan))  # noqa: E731
     return Scaling({m: nan(v) for m, v in si.items()}, nan(silica), nan(cf), rs(worst_T),
-                   {m: lim.value for m, lim in limits.items() if m in names}, rs(np.where(ok, limiting, -1)),
+                   {m: rs(flat_limits[m].value) for m in names}, rs(np.where(ok, limiting, -1)),
                    tuple(names), nan(r_max), rs(above), rs(in_table | ~ok))
 
 
@@ -146,5 +159,69 @@ def site_flows(capacity, recovery, product_density, feed_density, brine_density,
     return intake_mass / feed_density, brine_mass / brine_density
 
 
-__all__ = ["Scaling", "scaling", "site_flows", "recovery_for_limit", "SILICA", "POLARISATION", "HOTTEST",
-           "BRINE_TEMPERATURE", "INTAKE"]
+def _grid(x, shape):
+    return np.broadcast_to(np.asarray(x, dtype=float), shape)
+
+
+def assess(name: str, roles: dict, perf, feed, chem: Chemistry, shape) -> tuple["Scaling", list]:
+    """Scaling of one technology's concentrate on the case grid ``shape`` (N cases x M periods), and its flags.
+
+    Where the technology has no working design (NaN brine), the brine is taken from the salt balance of the
+    recovery asked with the product at its target, without polarisation, so that the limit is still reported.
+    """
+    from .flags import Flag
+
+    S_f, r = _grid(feed.salinity, shape), _grid(perf.recovery, shape)
+    S_p = _grid(perf.product_salinity, shape)
+    S_p = np.where(np.isfinite(S_p), S_p, _grid(feed.product_salinity, shape))
+    S_b = _grid(perf.brine_salinity, shape)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        S_b = np.where(np.isfinite(S_b), S_b, (S_f - r * S_p) / (1 - r))
+        wall = _grid(perf.details[roles[WALL]], shape) if WALL in roles else S_b
+        beta = np.where(np.isfinite(wall) & (S_b > 0), wall / S_b, 1.0)
+    temps = [_grid(perf.details[roles[k]], shape) for k in (HOTTEST, BRINE_TEMPERATURE) if k in roles]
+    temps = [np.where(np.isfinite(t), t, _grid(feed.temperature, shape)) for t in temps] or \
+        [_grid(feed.temperature, shape)]
+    limits = {m: Limit(lim.kind, _grid(lim.value, shape)) for m, lim in chem.limits.items()}
+    sc = scaling(chem.table, limits, S_f, S_b, S_p, r, temps, beta)
+    flags = []
+    kind = "infeasible" if chem.above_limit == "infeasible" else "note"
+    where = "at the membrane wall" if WALL in roles else "in the brine"
+    for j, mineral in enumerate(sc.names):
+        mask = sc.above & (sc.limiting == j)
+        if mask.any():
+            lim = chem.limits[mineral]
+            shown = (f"{float(np.max(lim.value)) * 1e3:.4g} mg/L of SiO2" if mineral == SILICA
+                     else f"SI {float(np.max(lim.value)):.3g}")
+            flags.append(Flag(kind, "scaling", "recovery", name,
+                              f"{name.upper()}: recovery above the scaling limit: {mineral.lower()} passes its limit "
+                              f"({shown}) {where}" + ("" if kind == "infeasible" else
+                                                       " (kept: scaling.above_limit = \"warning\")"), mask))
+    if (~sc.in_table).any():
+        lo, hi = chem.table.cf_range
+        flags.append(Flag("out_of_range", "scaling_table", "concentration_factor", name,
+                          f"{name.upper()}: the concentrate is beyond the scaling table ({hi:.3g} times the feed's "
+                          "salinity); its saturation indices are held at the table's edge", ~sc.in_table))
+    return sc, flags
+
+
+def per_case(sc: Scaling) -> Scaling:
+    """A grid (N, M) scaling reduced to cases (N,): each case's period with the lowest highest recovery."""
+    if np.ndim(sc.max_recovery) < 2:
+        return sc
+    key = np.where(np.isfinite(sc.max_recovery), sc.max_recovery, np.inf)
+    k = np.argmin(key, axis=1)[:, None]
+
+    def pick(x):
+        return np.take_along_axis(np.asarray(x), k, axis=1)[:, 0]
+
+    return Scaling({m: pick(v) for m, v in sc.saturation_index.items()}, pick(sc.silica),
+                   pick(sc.concentration_factor), pick(sc.temperature),
+                   {m: (pick(np.broadcast_to(v, sc.max_recovery.shape)) if np.ndim(v) else v)
+                    for m, v in sc.limits.items()},
+                   pick(sc.limiting), sc.names, pick(sc.max_recovery), np.asarray(sc.above).any(axis=1),
+                   np.asarray(sc.in_table).all(axis=1))
+
+
+__all__ = ["Scaling", "Chemistry", "scaling", "assess", "per_case", "site_flows", "recovery_for_limit", "SILICA",
+           "WALL", "HOTTEST", "BRINE_TEMPERATURE", "INTAKE"]

@@ -17,7 +17,7 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError, InputErrors
-from .schema import OPTIONAL, Spec, efficiency, parse_value
+from .schema import AT_LIMIT, OPTIONAL, Spec, efficiency, parse_value
 from .spec import specs_of
 from .thermo.activity import MODELS, WATERS
 from .units import CURRENCIES
@@ -309,6 +309,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
             texts[dotted] = (f"{v * 1e3:.4g} g/kg" if key == "salinity" else f"{v * 1e3:.4g} mg/L"
                              if key == "silica" else f"{v:g}")
     _cross_checks(values, label, errors)
+    _at_limit_checks(values, sources, label, errors)
     if not errors:
         errors += reach_errors(values, lambda dotted: (f"--set {dotted}" if sources.get(dotted) == "--set"
                                                        else f"{label}: {dotted}"), texts)
@@ -354,6 +355,20 @@ def _cross_checks(values, label, errors):
                 get_model(model, water)
             except ValueError as exc:
                 errors.append(f"{label}: feed.model: {exc}")
+
+
+def _at_limit_checks(values, sources, label, errors):
+    """A recovery or brine salinity written "max" needs an ion composition with its scaling checked."""
+    feed, sc = values.get("feed", {}), values.get("scaling", {})
+    for sec, body in values.items():
+        for key, v in (body or {}).items():
+            if isinstance(v, str) and v == AT_LIMIT and values.get(sec, {}).get("enabled", True) and \
+                    (feed.get("water") != "ions" or not sc.get("enabled", True)):
+                where = f"--set {sec}.{key}" if sources.get(f"{sec}.{key}") == "--set" else f"{label}: {sec}.{key}"
+                errors.append(f'{where}: "max" designs at the scaling limit, which needs an ion '
+                              f'composition (feed.water = "ions") with scaling.enabled = true, got water = '
+                              f'"{feed.get("water")}"' + ("" if sc.get("enabled", True) else
+                                                          " and scaling.enabled = false"))
 
 
 def _feed_ions(values, sources, label, errors):
@@ -491,7 +506,7 @@ def reach_errors(values: dict, where, texts: dict, varied: dict | None = None) -
         for key, spec in specs_of(tech.parameters).items():
             dotted = f"{name}.{key}"
             val = get(dotted)
-            if val is None or spec.role is None:
+            if val is None or spec.role is None or (isinstance(val, str) and val == AT_LIMIT):
                 continue
             val = np.asarray(val, dtype=float)
             if spec.role == "recovery":
