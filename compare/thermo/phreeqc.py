@@ -28,6 +28,7 @@ and Methods 6-A43. Appelo, C. A. J. (2015), Appl. Geochem. 55, 62-71 (pitzer.dat
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -195,10 +196,14 @@ def _run(shares: dict[str, float], S, T, ph: float | None = None):
 
 def phreeqc_model(composition) -> ActivityModel:
     """An :class:`ActivityModel` for the major-ion composition ``composition`` (a :class:`Composition`, or a dict
-    ion -> mass fraction at any scale)."""
+    ion -> mass fraction at any scale); built once per composition and kept (PHREEQC runs once for its table)."""
+    return _model(as_composition(composition))
+
+
+@functools.lru_cache(maxsize=8)
+def _model(comp: Composition) -> ActivityModel:
     from scipy.interpolate import RectBivariateSpline
 
-    comp = as_composition(composition)
     shares = _normalise(comp)
     M = particle_molar_mass(shares)    # mean molar mass of particles [kg/mol]
     imbalance = abs(comp.charge_imbalance)
