@@ -8,7 +8,6 @@ import numpy as np
 import pytest
 
 from compare.cli import main
-from compare.errors import InputErrors
 from compare.scenario import load
 from tests.conftest import requires_phreeqc
 
@@ -151,12 +150,13 @@ def test_max_needs_an_ion_composition(capsys):
 def test_site_flows_balance_in_every_record(capsys):
     from compare.thermo.brine import density
     recs = _compare(capsys, "--set", "ro.recovery=0.8")
+    S_f = load(SALTBUSH).values["feed"]["salinity"]
     T = 295.15
     for name, rec in recs.items():
         q_p = 6000.0                                 # m^3/day of product
         intake, brine = rec["intake_m3_per_day"], rec["brine_m3_per_day"]
         r = rec["recovery"]
-        S_f, S_b = rec["details"]["scaling"] and 3.511e-3, rec["brine_salinity_g_per_kg"] * 1e-3
+        S_b = rec["brine_salinity_g_per_kg"] * 1e-3
         T_b = rec["brine_temperature_c"] + 273.15
         m_p = q_p * float(density(0.0, T, "ions"))
         # identity: brine mass = product mass (1/r - 1), at the brine's own density and temperature

@@ -83,8 +83,6 @@ SILICA = "silica"
 
 def _phase_names(ip, comp: Composition) -> list[str]:
     """Every phase PHREEQC can compute for the feed (gases left out)."""
-    from phreeqpython import PhreeqPython  # noqa: F401  (ip comes from it)
-
     text = "\n".join(_solution_lines(comp, 1)) + "\nSAVE SOLUTION 1\nEND\n"
     ip.run_string(text)
     names = ip.get_phases(1) if hasattr(ip, "get_phases") else None
