@@ -185,6 +185,10 @@ class Accounts:
     om_items: dict = field(default_factory=dict)        # item -> (N,) [currency/year] (costing.OM_ITEMS)
     details: dict = field(default_factory=dict)
     flags: tuple = ()
+    intake_flow: np.ndarray | None = None       # water taken in [m^3/s] (MED: with its cooling water)
+    brine_flow: np.ndarray | None = None        # brine sent back [m^3/s]
+    brine_temperature: np.ndarray | None = None  # [K]
+    scaling: object = None                      # compare.concentrate.Scaling per case, for an ion composition
 
 
 def work_equivalent_factor(T_heat, site: Site):
@@ -195,7 +199,8 @@ def work_equivalent_factor(T_heat, site: Site):
 
 
 def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site: Site, capital_cost,
-            fixed_om, costs: costing.Costs | None = None) -> Accounts:
+            fixed_om, costs: costing.Costs | None = None, roles: dict | None = None,
+            scaling=None) -> Accounts:
     """The accounts of one technology's :class:`Performance` on N cases by M periods.
 
     Adds the checks every technology gets: heat colder than the technology needs makes it infeasible (code
@@ -209,6 +214,9 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     fixed_om : case or scalar, fixed O&M as a share of capital per year [1/year]
     costs : the capital and O&M build-up (:func:`compare.costing.build`); when given, it replaces ``capital_cost``
         and ``fixed_om`` and its O&M causes become lines of the levelised cost
+    roles : the technology's concentrate roles (``Technology.concentrate``): where its brine temperature and intake
+        per product are among its details
+    scaling : the grid (N, M) :class:`compare.concentrate.Scaling` of an ion composition, reduced here to cases
     """
     n, M = site.capacity.size, site.weights.size
     shape = (n, M)
@@ -271,7 +279,39 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     items = {"capital_items": {k: np.where(feasible, v, np.nan) for k, v in costs.capital.items()},
              "om_items": {k: np.where(feasible, v, np.nan) for k, v in costs.annual.items()}}
     details = {k: per_case(np.asarray(v, dtype=float)) for k, v in perf.details.items()}
+    intake, brine, T_b = _site_flows(perf, feed, site, roles or {}, shape, model.water)
+    if scaling is not None:
+        from .concentrate import per_case as scaling_per_case
+        scaling = scaling_per_case(scaling)
     return Accounts(technology=name, feasible=feasible, recovery=per_case(r), product_salinity=per_case(Sp),
                     brine_salinity=per_case(Sb), heat_temperature=heat_T, least_work=lw_y,
                     annual_production=np.asarray(site.annual_production, dtype=float), details=details,
-                    flags=tuple(flags), **design, **items)
+                    flags=tuple(flags), intake_flow=per_case(intake), brine_flow=per_case(brine),
+                    brine_temperature=per_case(T_b), scaling=scaling, **design, **items)
+
+
+def _site_flows(perf: Performance, feed: Feed, site: Site, roles: dict, shape, water: str):
+    """Intake and brine flows [m^3/s] and the brine's temperature [K] on the grid: the product flow over the
+    recovery (by mass, through the densities of product, feed and brine); a technology that draws more than its
+    process feed (MED's cooling water) names its intake per kg of product among its details."""
+    from .concentrate import BRINE_TEMPERATURE, INTAKE, site_flows
+    from .thermo.brine import density
+
+    def grid(x):
+        return np.broadcast_to(np.asarray(x, dtype=float), shape)
+
+    T = grid(feed.temperature)
+    T_b = grid(perf.details[roles[BRINE_TEMPERATURE]]) if BRINE_TEMPERATURE in roles else T
+    T_b = np.where(np.isfinite(T_b), T_b, T)
+    S_f, r = grid(feed.salinity), grid(perf.recovery)
+    S_b = grid(perf.brine_salinity)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        S_b = np.where(np.isfinite(S_b), S_b, S_f / (1 - r))
+    rho_p = density(np.zeros(shape), T, water)
+    rho_f = density(S_f, T, water)
+    rho_b = density(np.clip(S_b, 0.0, 0.3), T_b, water)
+    per_product = grid(perf.details[roles[INTAKE]]) if INTAKE in roles else None
+    if per_product is not None:
+        per_product = np.where(np.isfinite(per_product), per_product, 1.0 / r)
+    intake, brine = site_flows(grid(site.capacity[:, None]), r, rho_p, rho_f, rho_b, per_product)
+    return intake, brine, T_b

@@ -8,6 +8,7 @@ arrays that broadcast to (N, M); accounts are per case (production-weighted over
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -17,7 +18,9 @@ from . import costing
 from .errors import InputError
 from .flags import Flag, reduce_cases
 from .scenario import FEED_TEMPERATURE, Scenario
-from .spec import build
+from .concentrate import Chemistry, assess, scaling
+from .schema import AT_LIMIT
+from .spec import build, specs_of
 from .tech.base import TECHNOLOGIES, Feed
 from .thermo.activity import get_model
 from .thermo.floor import evaluate_floor
@@ -116,14 +119,70 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
 
     site_costs = costing.site_costs(get, case)
     feed = Feed(model, water, S_f, T, site.product_target, site.heat_temperature, grid(capacity[:, None]))
+    chem = _chemistry(scenario, get)
     results = []
     for name in scenario.technologies:
         tech = TECHNOLOGIES[name]
         params = build(tech.parameters, lambda key: _value(scenario, varied, f"{name}.{key}", n))
-        perf = tech.evaluate(feed, params)
+        at_limit = {key: spec.role for key, spec in specs_of(tech.parameters).items()
+                    if spec.role and isinstance(getattr(params, key, None), str) and getattr(params, key) == AT_LIMIT}
+        if at_limit:
+            perf, params = _design_at_limit(tech, feed, params, at_limit, chem, (n, M))
+        else:
+            perf = tech.evaluate(feed, params)
+        sc = None
+        if chem is not None:
+            sc, more = assess(name, tech.concentrate, perf, feed, chem, (n, M))
+            perf = dataclasses.replace(perf, flags=tuple(perf.flags) + tuple(more))
         costs = costing.build(name, perf, params, site_costs, capacity, weights, site.annual_production)
-        results.append(acc.account(name, perf, model, feed, site, None, None, costs=costs))
+        results.append(acc.account(name, perf, model, feed, site, None, None, costs=costs, roles=tech.concentrate,
+                                   scaling=sc))
     return RunResult(scenario, n, floor, tuple(results), varied)
+
+
+def _chemistry(scenario: Scenario, get) -> Chemistry | None:
+    """The scaling check of an ion composition (None for other feeds or with scaling.enabled = false)."""
+    from .scenario import SCALING_KEYS
+    from .thermo.scaling import Limit, scaling_table
+
+    feed, sc = scenario.values["feed"], scenario.values.get("scaling", {})
+    if feed["water"] != "ions" or not sc.get("enabled", True):
+        return None
+    limits = {mineral: Limit("concentration" if mineral == "silica" else "si", get(f"scaling.{key}"))
+              for key, mineral in SCALING_KEYS.items()}
+    try:
+        table = scaling_table(feed["ions"])
+    except ValueError as exc:
+        raise InputError(f"{scenario.path or scenario.name}: feed.ions: {exc}") from None
+    return Chemistry(table, limits, sc["above_limit"], sc["antiscalant"])
+
+
+def _design_at_limit(tech, feed: Feed, params, keys: dict, chem: Chemistry, shape):
+    """The technology designed at its scaling limit: its recovery (or brine salinity) set to the highest that keeps
+    every mineral under its limit, found by repeating the design until the limit it gives stops moving (the wall's
+    polarisation depends on the design). One recovery per case: the worst period's."""
+    from .thermo.scaling import Limit
+
+    S_f = np.broadcast_to(np.asarray(feed.salinity, dtype=float), shape)
+    S_t = np.broadcast_to(np.asarray(feed.product_salinity, dtype=float), shape)
+    limits = {m: Limit(lim.kind, np.broadcast_to(np.asarray(lim.value, dtype=float), shape))
+              for m, lim in chem.limits.items()}
+    first = scaling(chem.table, limits, S_f, 2 * S_f, S_t, 0.5, [np.broadcast_to(feed.temperature, shape)])
+    r = np.min(np.clip(np.nan_to_num(first.max_recovery, nan=0.5), 0.01, 0.99), axis=1, keepdims=True)
+    S_p = np.zeros(shape)
+    for _ in range(10):
+        with np.errstate(invalid="ignore", divide="ignore"):
+            brine = (S_f - r * S_p) / (1 - r)
+        p = dataclasses.replace(params, **{k: (r if role == "recovery" else brine) for k, role in keys.items()})
+        perf = tech.evaluate(feed, p)
+        sc, _ = assess(tech.name, tech.concentrate, perf, feed, chem, shape)
+        r_new = np.min(np.clip(np.where(np.isfinite(sc.max_recovery), sc.max_recovery, r), 0.01, 0.99), axis=1,
+                       keepdims=True)
+        S_p = np.nan_to_num(np.broadcast_to(np.asarray(perf.product_salinity, dtype=float), shape))
+        if np.max(np.abs(r_new - r)) < 1e-6:
+            break
+        r = r_new
+    return perf, p
 
 
 def strict_flag(result: RunResult) -> Flag | None:

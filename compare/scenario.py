@@ -17,12 +17,38 @@ from typing import Any
 import numpy as np
 
 from .errors import InputError, InputErrors
-from .schema import OPTIONAL, Spec, efficiency, parse_value
+from .schema import AT_LIMIT, OPTIONAL, Spec, efficiency, parse_value
 from .spec import specs_of
 from .thermo.activity import MODELS, WATERS
 from .units import CURRENCIES
 
 FEED_TEMPERATURE = "the feed temperature"
+ION_TOTAL = "(the total of feed.ions)"
+BY_ANTISCALANT = "(by scaling.antiscalant)"
+
+
+def _scaling_section() -> dict[str, Spec]:
+    si = 'a saturation index (log10 of the saturation ratio) such as 0.3'
+    return {
+        "enabled": Spec("flag", True, "tool default: scaling is checked for every ion composition (feed.water = "
+                        "\"ions\")"),
+        "antiscalant": Spec("flag", True, "common practice: antiscalant dosing is usual in RO and MED plants; it "
+                            "chooses the default limits"),
+        "above_limit": Spec("choice", "infeasible", "tool default: a recovery above the scaling limit cannot run "
+                            "(\"warning\": it is flagged, e.g. when further scale control is assumed)",
+                            choices=("infeasible", "warning")),
+        "calcite_si": Spec("fraction", BY_ANTISCALANT, "", expect=si, lo=-5.0, hi=5.0),
+        "gypsum_si": Spec("fraction", BY_ANTISCALANT, "", expect=si, lo=-5.0, hi=5.0),
+        "barite_si": Spec("fraction", BY_ANTISCALANT, "", expect=si, lo=-5.0, hi=5.0),
+        "celestite_si": Spec("fraction", BY_ANTISCALANT, "", expect=si, lo=-5.0, hi=5.0),
+        "silica": Spec("quantity", BY_ANTISCALANT, "", "kg/m^3",
+                       'a silica (SiO2) concentration in the concentrate such as "150 mg/L"', lo=0.0, lo_open=True),
+    }
+
+
+#: scaling keys -> mineral names of :mod:`compare.thermo.scaling`
+SCALING_KEYS = {"calcite_si": "Calcite", "gypsum_si": "Gypsum", "barite_si": "Barite", "celestite_si": "Celestite",
+                "silica": "silica"}
 
 SITE_SECTIONS: dict[str, dict[str, Spec]] = {
     "site": {
@@ -33,12 +59,20 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
     },
     "feed": {
         "water": Spec("choice", "seawater", "tool default: seawater of Reference Composition", choices=WATERS),
-        "salinity": Spec("salinity", None, "required", expect="a salinity above zero", lo=0.0, lo_open=True),
+        "salinity": Spec("salinity", ION_TOTAL, "required, except for an ion composition (then the ions' total)",
+                         expect="a salinity above zero", lo=0.0, lo_open=True),
         "temperature": Spec("temperatures", None, "required",
                             expect='a temperature between 0 and 100 degC such as "25 degC"',
                             lo=273.15, hi=373.15),
         "ions": Spec("table", OPTIONAL, "tool default: none; needed when water = \"ions\"",
-                     expect='a table of ion concentrations such as { Na = "10.8 g/kg", Cl = "19.4 g/kg" }'),
+                     expect='a table of ion concentrations such as { Na = "10.8 g/kg", Cl = "19.4 g/kg", pH = 8.1 }'),
+        "charge_balance_limit": Spec("fraction", "5 %", "from memory: the usual acceptance of a water analysis, "
+                                     "cations and anions within 5 % of their sum (Standard Methods, section 1030 E)",
+                                     expect='a fraction in (0, 1) such as "5 %"', lo=0.0, hi=1.0, lo_open=True,
+                                     hi_open=True),
+        "ions_total_tolerance": Spec("fraction", "10 %", "common practice: the ions' total within 10 % of a given "
+                                     "salinity", expect='a fraction in (0, 1) such as "10 %"', lo=0.0, hi=1.0,
+                                     lo_open=True, hi_open=True),
         "model": Spec("choice", OPTIONAL, "tool default: the model the water implies (teos10, pitzer-nacl, phreeqc)",
                       choices=tuple(MODELS)),
     },
@@ -70,6 +104,7 @@ SITE_SECTIONS: dict[str, dict[str, Spec]] = {
                                       expect='a temperature such as "40 degC"', lo=273.15, hi=373.15),
         "turbine_efficiency": efficiency("0.85", "common practice: isentropic efficiency of a steam turbine's last stages"),
     },
+    "scaling": _scaling_section(),
     "finance": {
         "currency": Spec("choice", "USD", "tool default: US dollars", choices=CURRENCIES),
         "discount_rate": Spec("fraction", "0.07", "common practice: a real discount rate for water infrastructure",
@@ -246,6 +281,9 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
             if raw == FEED_TEMPERATURE:
                 values[sec][key] = ctx["temperature"]
                 continue
+            if raw in (ION_TOTAL, BY_ANTISCALANT):       # filled in below, once their inputs are known
+                values[sec][key] = None
+                continue
             try:
                 if spec.kind == "money" and key not in body and not raw.split()[1].startswith(ctx["currency"]):
                     raise InputError(f"{where}: the default ({raw}) is in another currency; give a value in "
@@ -262,7 +300,16 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
             elif dotted == "feed.temperature":
                 ctx["temperature"] = float(np.mean(v))
 
+    _feed_ions(values, sources, label, errors)
+    _scaling_limits(values, sources)
+    for dotted, raw in list(texts.items()):       # computed defaults show their value
+        sec, key = dotted.split(".", 1)
+        if raw in (ION_TOTAL, BY_ANTISCALANT) and values.get(sec, {}).get(key) is not None:
+            v = values[sec][key]
+            texts[dotted] = (f"{v * 1e3:.4g} g/kg" if key == "salinity" else f"{v * 1e3:.4g} mg/L"
+                             if key == "silica" else f"{v:g}")
     _cross_checks(values, label, errors)
+    _at_limit_checks(values, sources, label, errors)
     if not errors:
         errors += reach_errors(values, lambda dotted: (f"--set {dotted}" if sources.get(dotted) == "--set"
                                                        else f"{label}: {dotted}"), texts)
@@ -308,27 +355,103 @@ def _cross_checks(values, label, errors):
                 get_model(model, water)
             except ValueError as exc:
                 errors.append(f"{label}: feed.model: {exc}")
-    ions = feed.get("ions")
-    if water == "ions" and ions:
-        from .thermo.brine import density
-        from .thermo.phreeqc import IONS
-        from .units import parse_salinity
-        # only the ratios matter: a concentration (mg/L) becomes a mass fraction with the feed's density
-        rho = float(density(S_f, float(np.mean(feed["temperature"])), "ions")) \
-            if S_f is not None and feed.get("temperature") is not None else 1000.0
-        parsed = {}
-        for ion, raw in ions.items():
-            if ion not in IONS:
-                errors.append(f"{label}: feed.ions.{ion}: unknown ion{nearest(ion, IONS)}; expected one of "
-                              f"{', '.join(IONS)}")
-                continue
+
+
+def _at_limit_checks(values, sources, label, errors):
+    """A recovery or brine salinity written "max" needs an ion composition with its scaling checked."""
+    feed, sc = values.get("feed", {}), values.get("scaling", {})
+    for sec, body in values.items():
+        for key, v in (body or {}).items():
+            if isinstance(v, str) and v == AT_LIMIT and values.get(sec, {}).get("enabled", True) and \
+                    (feed.get("water") != "ions" or not sc.get("enabled", True)):
+                where = f"--set {sec}.{key}" if sources.get(f"{sec}.{key}") == "--set" else f"{label}: {sec}.{key}"
+                errors.append(f'{where}: "max" designs at the scaling limit, which needs an ion '
+                              f'composition (feed.water = "ions") with scaling.enabled = true, got water = '
+                              f'"{feed.get("water")}"' + ("" if sc.get("enabled", True) else
+                                                          " and scaling.enabled = false"))
+
+
+def _feed_ions(values, sources, label, errors):
+    """An ion composition: parsed into mass fractions (mg/L through the feed's density), its charge balance and its
+    total checked, the feed salinity computed from it when not given."""
+    from .thermo import phreeqc
+    from .thermo.brine import density
+    from .units import parse_salinity
+
+    feed = values.get("feed", {})
+    water, ions, S_f = feed.get("water"), feed.get("ions"), feed.get("salinity")
+    if water != "ions" and "salinity" in feed and S_f is None:
+        errors.append(f"{label}: feed.salinity: required, expected a salinity above zero")
+    if water != "ions" or not ions:
+        return
+    needs_phreeqc = feed.get("model") in (None, "phreeqc") or values.get("scaling", {}).get("enabled", True)
+    if needs_phreeqc and not phreeqc.available():
+        errors.append(f"{label}: feed.water: {phreeqc.MISSING}")
+        return
+    n_errors = len(errors)
+    T = float(np.mean(feed["temperature"])) if feed.get("temperature") is not None else 298.15
+    mass, volume, ph = {}, {}, None
+    for ion, raw in ions.items():
+        where = f"{label}: feed.ions.{ion}"
+        if ion.lower() == "ph":
             try:
-                kind, value = parse_salinity(raw, where=f"{label}: feed.ions.{ion}")
-            except InputError as exc:
-                errors.append(str(exc))
-                continue
-            parsed[ion] = value / rho if kind == "concentration" else value
-        feed["ions"] = parsed
+                ph = float(raw)
+            except (TypeError, ValueError):
+                ph = None
+            if ph is None or isinstance(raw, bool) or not 0.0 < ph < 14.0:
+                errors.append(f"{where}: expected a pH between 0 and 14 such as 7.8, got {raw!r}")
+                return
+            continue
+        if ion not in phreeqc.IONS:
+            errors.append(f"{where}: unknown ion{nearest(ion, phreeqc.IONS)}; expected one of "
+                          f"{', '.join(phreeqc.IONS)} or pH")
+            continue
+        try:
+            kind, value = parse_salinity(raw, where=where)
+        except InputError as exc:
+            errors.append(str(exc))
+            continue
+        (volume if kind == "concentration" else mass)[ion] = value
+    if len(errors) > n_errors:
+        return
+    if ph is None and any(k in mass or k in volume for k in phreeqc.NEEDS_PH):
+        errors.append(f"{label}: feed.ions.pH: required with HCO3 or CO3 (carbonate speciation), expected a pH "
+                      "such as 7.8")
+        return
+    # mg/L -> mass fraction with the density of the feed (given, or of the ions' own total, by a fixed point)
+    S = S_f if S_f is not None else sum(mass.values()) + sum(volume.values()) / 1000.0
+    for _ in range(6 if S_f is None else 1):
+        rho = float(density(S, T, "ions"))
+        fractions = {**mass, **{k: v / rho for k, v in volume.items()}}
+        if S_f is None:
+            S = sum(fractions.values())
+    comp = phreeqc.Composition.of(fractions, ph, T)
+    if comp.salinity <= 0:
+        errors.append(f"{label}: feed.ions: expected at least one ion with a positive concentration")
+        return
+    problem = phreeqc.check_charge_balance(comp, feed["charge_balance_limit"])
+    if problem is None and S_f is not None:
+        problem = phreeqc.check_total(comp, S_f, feed["ions_total_tolerance"])
+    if problem:
+        errors.append(f"{label}: feed.ions: {problem}")
+        return
+    if S_f is None:
+        feed["salinity"] = comp.salinity
+        sources["feed.salinity"] = "computed: the total of feed.ions"
+    feed["ions"] = comp
+
+
+def _scaling_limits(values, sources):
+    """Limits left to their default take the value for the antiscalant choice, with its source."""
+    from .thermo.scaling import DEFAULT_LIMITS
+
+    sc = values.get("scaling", {})
+    dosed = bool(sc.get("antiscalant", True))
+    for key, mineral in SCALING_KEYS.items():
+        if key in sc and sc[key] is None:
+            without, with_, source = DEFAULT_LIMITS[mineral]
+            sc[key] = (with_ if dosed else without).value
+            sources[f"scaling.{key}"] = (f"default {'with' if dosed else 'without'} antiscalant ({source})")
 
 
 def reach_errors(values: dict, where, texts: dict, varied: dict | None = None) -> list[str]:
@@ -383,7 +506,7 @@ def reach_errors(values: dict, where, texts: dict, varied: dict | None = None) -
         for key, spec in specs_of(tech.parameters).items():
             dotted = f"{name}.{key}"
             val = get(dotted)
-            if val is None or spec.role is None:
+            if val is None or spec.role is None or (isinstance(val, str) and val == AT_LIMIT):
                 continue
             val = np.asarray(val, dtype=float)
             if spec.role == "recovery":

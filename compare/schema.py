@@ -29,12 +29,18 @@ def _show(raw) -> str:
     return f'"{raw}"' if isinstance(raw, str) else repr(raw)
 
 
+#: a recovery (or MED brine salinity) written "max": the design at the scaling limit of an ion composition
+AT_LIMIT = "max"
+
+
 def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperature: float = 298.15,
                 water: str = "seawater"):
     """Parse one raw TOML value (or ``--set`` text) by its spec into SI. Raises one-line :class:`InputError`."""
     from .thermo.brine import mass_fraction_from_concentration
 
     k = spec.kind
+    if spec.role is not None and isinstance(raw, str) and raw.strip().lower() == AT_LIMIT:
+        return AT_LIMIT            # a recovery or brine salinity at the scaling limit (compare.concentrate)
     if k == "flag":
         if isinstance(raw, bool):
             return raw

@@ -515,12 +515,30 @@ def case_frame(res, offset: int, shown: dict):
         for f in RECORD_FIELDS:
             cols[f.name] = convert(getattr(t, f.attr), f.unit)
         cols["currency"] = res.scenario.currency
+        if t.scaling is not None:
+            cols.update(scaling_columns(t.scaling))
         flags = [*res.floor.flags, *t.flags]
         masks = [f.where((n,)) for f in flags]
         cols["flags"] = _joined([f"{f.kind}:{f.code}" for f in flags], masks, n)
         cols["warnings"] = _joined([f.message for f in flags], masks, n)
         frames.append(pd.DataFrame(cols))
     return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame(base)
+
+
+def scaling_columns(sc) -> dict:
+    """Sweep columns of a technology's scaling: the limiting mineral, the highest recovery and the figures of every
+    limited mineral (SI; silica in mg/L), each prefixed ``scaling_``."""
+    from .present.fields import SCALING_FIELDS
+    from .thermo.scaling import SILICA
+
+    n = np.size(sc.max_recovery)
+    cols = {"scaling_limiting_mineral": [sc.limiting_mineral(i) for i in range(n)]}
+    cols.update({f"scaling_{f.name}": convert(getattr(sc, f.attr), f.unit) for f in SCALING_FIELDS})
+    cols["scaling_above_limit"] = np.asarray(sc.above, dtype=bool)
+    for m in sc.names:
+        if m != SILICA:
+            cols[f"scaling_si_{m.lower()}"] = np.asarray(sc.saturation_index[m], dtype=float)
+    return cols
 
 
 # ---------------------------------------------------------------------------------------------- summaries

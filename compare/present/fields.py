@@ -50,6 +50,7 @@ UNITS: dict[str, Unit] = {
     "t/yr": Unit(1e-3, "t"),
     "m3/yr": Unit(1.0, "m3"),
     "m3/day": Unit(86400.0, "m3_per_day"),
+    "mg/L": Unit(1e3, "mg_per_l"),
     "{currency}": Unit(1.0, ""),
     "{currency}/m3": Unit(1.0, "per_m3"),
     "{currency}/yr": Unit(1.0, ""),
@@ -98,6 +99,9 @@ RECORD_FIELDS: tuple[Field, ...] = (
     Field("heat_power", "heat_mw", "heat", "MW_th", "site totals"),
     Field("annual_electricity", "annual_electricity_gwh", "electricity per year", "GWh/yr", "site totals"),
     Field("annual_heat", "annual_heat_gwh", "heat per year", "GWh_th/yr", "site totals"),
+    Field("intake_flow", "intake_m3_per_day", "water taken in", "m3/day", "site totals"),
+    Field("brine_flow", "brine_m3_per_day", "brine sent back", "m3/day", "site totals"),
+    Field("brine_temperature", "brine_temperature_c", "brine temperature", "degC", "site totals"),
     Field("emissions", "emissions_kg_per_m3", "CO2 per m3", "kg/m3", "emissions"),
     Field("annual_emissions", "annual_emissions_t", "CO2 per year", "t/yr", "emissions"),
     Field("levelized_cost", "levelized_cost_per_m3", "levelized cost of water", "{currency}/m3", "cost"),
@@ -129,6 +133,15 @@ SITE_DETAILS: tuple[Field, ...] = (
           "kWh/m3", "energy"),
     Field("annual_production", "annual_production_m3", "production per year", "m3/yr", "site totals"),
     *COST_TOTALS,
+)
+
+#: the scaling figures of a record's ``details.scaling`` (an ion composition): attribute of
+#: :class:`compare.concentrate.Scaling`, name, label, unit
+SCALING_FIELDS: tuple[Field, ...] = (
+    Field("max_recovery", "max_recovery", "highest recovery under the scaling limits", "-", "scaling", "percent"),
+    Field("concentration_factor", "concentration_factor", "concentrate salinity over the feed's", "-", "scaling"),
+    Field("temperature", "temperature_c", "temperature of the limiting state", "degC", "scaling"),
+    Field("silica", "silica_mg_per_l", "silica (SiO2) in the concentrate", "mg/L", "scaling"),
 )
 
 #: the floor of the feed (``floor`` of a compare record; the ``desal floor`` record adds recovery-dependent ones)

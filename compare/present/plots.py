@@ -95,9 +95,11 @@ def _scale(name: str) -> float:
 # ------------------------------------------------------------------------------------------------ grids
 def grid_figure(sr, folder) -> list[str]:
     """Levelized cost, work equivalent, emissions and second-law efficiency against the first varied key, a line
-    per technology (and per combination of the other keys, up to four, by line style), panels sharing the x axis;
-    the floor on the work-equivalent panel; where first place changes on cost, energy or emissions, a dotted
-    vertical line labelled with the break-even value in the key's unit."""
+    per technology (colour) and per combination of the other keys (line style, up to four), panels sharing the x
+    axis; the floor on the work-equivalent panel; where first place changes on cost, energy or emissions, a dotted
+    vertical line labelled with the break-even value in the key's unit (and the other keys' values)."""
+    from matplotlib.lines import Line2D
+
     from ..sweep import break_even
     plt = _plt()
     ax0 = sr.axes[0]
@@ -107,37 +109,54 @@ def grid_figure(sr, folder) -> list[str]:
     fig, axes = plt.subplots(2, 2, figsize=(11, 7.5), sharex=True)
     styles = ["-", "--", "-.", ":"]
     crit_of = {"lcow": "cost", "work_equivalent": "energy", "emissions": "emissions"}
+
+    def tail(rest):
+        return ", ".join(f"{key_label(a.key)} {a.display[i]:g} {a.unit}".rstrip(" -")
+                         for a, i in zip(sr.axes[1:], rest))
     for (metric, name), ax in zip(_PANEL_FIELDS, axes.ravel()):
         k = _scale(name)
         for j, rest in enumerate(rests):
-            tail = ", ".join(f"{key_label(a.key)} {a.display[i]:g} {a.unit}" for a, i in zip(sr.axes[1:], rest))
             for t in sr.technologies:
                 y = sr.metrics[t][metric].reshape(shape)[(slice(None),) + rest] * k
-                ax.plot(ax0.display, y, styles[j % 4], color=colour(t, sr.technologies), marker="o", ms=3, lw=1.8,
-                        label=f"{t.upper()}{' (' + tail + ')' if tail else ''}")
+                ax.plot(ax0.display, y, styles[j % 4], color=colour(t, sr.technologies), marker="o", ms=3, lw=1.8)
             if metric == "work_equivalent":
                 fl = sr.floor.reshape(shape)[(slice(None),) + rest]
-                ax.plot(ax0.display, fl, styles[j % 4], color="k", lw=1.2,
-                        label=f"least work of the feed (zero recovery){' (' + tail + ')' if tail else ''}")
+                ax.plot(ax0.display, fl, styles[j % 4], color="k", lw=1.2)
         if metric in crit_of:
+            shown = 0
             for c in break_even(sr, crit_of[metric]):
-                if c["kind"] == "crossing" and (not c["at"] or len(rests) == 1):
-                    ax.axvline(c["value"], color="0.3", ls=":", lw=1.2)
-                    ax.annotate(f"{(c['from'] or 'none').upper()} to {(c['to'] or 'none').upper()}\n"
-                                f"at {c['value']:.3g} {c['unit']}", (c["value"], 1.0),
-                                xycoords=("data", "axes fraction"), xytext=(3, -3), textcoords="offset points",
-                                fontsize=8, va="top", color="0.2")
+                j = next((j for j, rest in enumerate(rests)
+                          if all(np.isclose(c["at"].get(a.key, np.nan), a.display[i])
+                                 for a, i in zip(sr.axes[1:], rest))), None)
+                if c["kind"] != "crossing" or j is None:
+                    continue
+                ax.axvline(c["value"], color="0.25", ls=":", lw=1.3)
+                where = f"\n({tail(rests[j])})" if len(rests) > 1 else ""
+                right = c["value"] > 0.6 * ax0.display.max() + 0.4 * ax0.display.min()
+                ax.annotate(f"{(c['from'] or 'none').upper()} to {(c['to'] or 'none').upper()}\n"
+                            f"at {c['value']:.3g} {c['unit']}{where}", (c["value"], 1.0),
+                            xycoords=("data", "axes fraction"), xytext=(-3 if right else 3, -3 - 30 * shown),
+                            textcoords="offset points", fontsize=7.5, va="top", ha="right" if right else "left",
+                            color="0.2", bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none",
+                                               "alpha": 0.85})
+                shown += 1
         ax.set_ylabel(metric_label(name, cur))
         ax.grid(alpha=0.3)
         ax.set_ylim(bottom=0)
     for ax in axes[1]:
         ax.set_xlabel(key_label(ax0.key, ax0.unit))
-    handles, labels = axes[0, 1].get_legend_handles_labels()
-    h2, l2 = axes[0, 1].get_legend_handles_labels()
-    fig.legend(handles, labels, loc="lower center", ncol=min(4, len(labels)), fontsize=8, frameon=False,
+    # one legend: colours are technologies, line styles the other keys' values
+    handles = [Line2D([], [], color=colour(t, sr.technologies), marker="o", ms=3, lw=1.8, label=t.upper())
+               for t in sr.technologies]
+    handles.append(Line2D([], [], color="k", lw=1.2, label="least work of the feed (zero recovery)"))
+    if len(rests) > 1:
+        handles += [Line2D([], [], color="0.4", ls=styles[j % 4], lw=1.5, label=tail(rest))
+                    for j, rest in enumerate(rests)]
+    fig.legend(handles=handles, loc="lower center", ncol=min(4, len(handles)), fontsize=8, frameon=False,
                bbox_to_anchor=(0.5, 0.0))
-    fig.suptitle(f"{sr.scenario.name}: cost and energy against {key_label(ax0.key)} ({sr.n} cases)")
-    fig.tight_layout(rect=(0, 0.06, 1, 1))
+    more = "" if len(rests) == int(np.prod(shape[1:])) else f"; first {len(rests)} combinations of the other keys"
+    fig.suptitle(f"{sr.scenario.name}: cost and energy against {key_label(ax0.key)} ({sr.n} cases{more})")
+    fig.tight_layout(rect=(0, 0.07, 1, 1))
     _caption(fig)
     names = _save(fig, folder, "sweep")
     plt.close(fig)

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import CAUTION
-from .fields import COST_LINES, FLOOR_FIELDS, RECORD_FIELDS, SITE_DETAILS, record_name, value
+from .fields import COST_LINES, FLOOR_FIELDS, RECORD_FIELDS, SCALING_FIELDS, SITE_DETAILS, record_name, value
 
 
 def _flags_at(flags, i) -> list:
@@ -58,7 +58,25 @@ def record(result, t, i: int) -> dict:
         **{f.name: value(getattr(t, f.attr)[i], f.unit) for f in SITE_DETAILS},
         **details_record(t.technology, t.details, i),
     }
+    if t.scaling is not None:
+        rec["details"]["scaling"] = scaling_record(t.scaling, i)
     return rec
+
+
+def scaling_record(sc, i: int) -> dict:
+    """``details.scaling`` of case ``i``: the limiting mineral, the highest recovery, where the concentrate was
+    judged, the limits used (SI; silica in mg/L), and the saturation index of every mineral PHREEQC knows for the
+    water, in that concentrate."""
+    from ..thermo.scaling import SILICA
+
+    out = {"limiting_mineral": sc.limiting_mineral(i)}
+    out.update({f.name: value(np.asarray(getattr(sc, f.attr)).reshape(-1)[i], f.unit) for f in SCALING_FIELDS})
+    out["above_limit"] = bool(np.asarray(sc.above).reshape(-1)[i])
+    out["limits"] = {m: value(np.asarray(v, dtype=float).reshape(-1)[i] if np.ndim(v) else v,
+                              "mg/L" if m == SILICA else "-") for m, v in sc.limits.items()}
+    out["saturation_index"] = {m: value(np.asarray(v).reshape(-1)[i], "-")
+                               for m, v in sorted(sc.saturation_index.items())}
+    return out
 
 
 def records(result, i: int = 0) -> list[dict]:

@@ -112,6 +112,9 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
     groups.update(build_up_sections(recs, cur))
     reasons = [[r["technology"], "; ".join(x["message"] for x in r.get("flags", []) if x["kind"] == "infeasible")]
                for r in recs if not r["feasible"]]
+    scaled = [r["details"].get("scaling") for r in recs]
+    if any(scaled):
+        groups["scaling"] = scaling_rows(scaled)
     for g, rows in groups.items():
         sections.append((g, [g] + techs, rows))
     if reasons:
@@ -155,6 +158,35 @@ def build_up_sections(recs: list[dict], currency: str) -> dict:
     if om:
         out[f"operation and maintenance by cause [{currency}/m3]"] = om
     return out
+
+
+def scaling_rows(scaled: list) -> list[list]:
+    """Rows of the scaling block (technologies as columns): the limiting mineral, the highest recovery, where the
+    concentrate was judged, and each limited mineral's figure against its limit."""
+    from .fields import SCALING_FIELDS, unit_label
+
+    def get(sc, key):
+        return None if sc is None else sc.get(key)
+
+    rows = [["limiting mineral"] + [get(sc, "limiting_mineral") or ("none in the table" if sc else None)
+                                    for sc in scaled]]
+    for f in SCALING_FIELDS:
+        if f.name == "silica_mg_per_l":
+            rows.append([f"{unit_label(f.label, f.unit)} (limit)"] + [
+                None if sc is None or sc[f.name] is None else
+                f"{fmt_number(sc[f.name], 3)} ({fmt_number(sc['limits'].get('silica'), 3)})" for sc in scaled])
+            continue
+        rows.append([unit_label(f.label, f.unit, fmt=f.fmt)] + [_shown(f, get(sc, f.name)) for sc in scaled])
+    rows.append(["recovery above the limit"] + [None if sc is None else ("YES" if sc["above_limit"] else "no")
+                                                for sc in scaled])
+    minerals = next(sc["limits"] for sc in scaled if sc)
+    for m in minerals:
+        if m == "silica":
+            continue
+        rows.append([f"saturation index, {m.lower()} (limit)"] +
+                    [None if sc is None else f"{fmt_number(sc['saturation_index'].get(m), 3)} "
+                     f"({fmt_number(sc['limits'][m], 3)})" for sc in scaled])
+    return rows
 
 
 def print_compare(console: Console, payload: dict) -> None:

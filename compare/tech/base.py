@@ -83,6 +83,10 @@ class Technology:
     validity: str
     reference: str
     details: dict = field(default_factory=dict)      # detail name -> Detail
+    #: where the concentrate is judged (:mod:`compare.concentrate`): role -> detail name. Roles:
+    #: ``wall_salinity`` (brine at the membrane wall [kg/kg]), ``hottest_brine_temperature`` and ``brine_temperature``
+    #: (the brine leaving) [K], ``intake_per_product`` (water drawn per kg of product, when more than the feed)
+    concentrate: dict = field(default_factory=dict)
 
 
 TECHNOLOGIES: dict[str, Technology] = {}

@@ -335,6 +335,7 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
             "draw_flow_ratio": m_din, "average_flux": avg_flux, "fo_membrane_area": area,
             "reverse_salt_flux": ex["Js"] / ex["area"],
             "min_osmotic_margin": ex["margin"],
+            "brine_wall_salinity": wall,
             "draw_makeup": makeup / r * rho,
         })
     nan = ~reached
@@ -356,6 +357,7 @@ DETAILS = {
     "fo_membrane_area": Detail("FO membrane area", "m2"),
     "reverse_salt_flux": Detail("reverse salt flux", "g/m2/h"),
     "min_osmotic_margin": Detail("smallest osmotic-pressure margin along the exchanger", "bar"),
+    "brine_wall_salinity": Detail("brine at the membrane, polarised at the mean flux", "g/kg"),
     "draw_makeup": Detail("draw salt make-up", "kg/m3"),
     "regenerator_recovery": Detail("regenerator recovery", "-"),
     "regenerator_feed_pressure": Detail("regenerator feed pressure", "bar"),
@@ -371,4 +373,5 @@ DETAILS = {
 FO = register(Technology(
     "fo", "forward osmosis (counter-current, NaCl draw) with RO or thermal draw regeneration", evaluate, FOParameters,
     "draw within the NaCl model's range; feed within its own model's range",
-    "McCutcheon & Elimelech 2006; Tiraferri et al. 2011; McGovern & Lienhard 2014; the RO model", DETAILS))
+    "McCutcheon & Elimelech 2006; Tiraferri et al. 2011; McGovern & Lienhard 2014; the RO model", DETAILS,
+    concentrate={"wall_salinity": "brine_wall_salinity"}))

@@ -395,4 +395,6 @@ DETAILS = {
 MED = register(Technology(
     "med", "multi-effect distillation (parallel/cross or forward feed, optional thermal vapour compression)",
     evaluate, MEDParameters, "2-16 effects; brine within the activity model's range (TEOS-10: 120 g/kg, 80 degC)",
-    "effect balances on IAPWS-95 (CoolProp) and TEOS-10; El-Dessouky & Ettouney 2002 (U, ejector)", DETAILS))
+    "effect balances on IAPWS-95 (CoolProp) and TEOS-10; El-Dessouky & Ettouney 2002 (U, ejector)", DETAILS,
+    concentrate={"hottest_brine_temperature": "top_brine_temperature",
+                 "brine_temperature": "last_brine_temperature", "intake_per_product": "cooling_water_per_product"}))

@@ -239,7 +239,8 @@ def _march(P_feed, c, shares, n_seg, full=False):
     st_salt = np.diff(np.array([np.zeros_like(x)] + c_at), axis=0)
     x_lead = share[0] / c["n_elem"]
     lead = _along(xs, ms, np.full_like(x, x_lead)) * c["v_p"] / (x_lead * c["area_per_feed"])
-    return dict(x=x, perm_salt=perm_salt, S_b=salt / Q, P_b=P_b, st_perm=st_perm, st_salt=st_salt, lead=lead)
+    return dict(x=x, perm_salt=perm_salt, S_b=salt / Q, P_b=P_b, st_perm=st_perm, st_salt=st_salt, lead=lead,
+                J_out=J0, Sp_out=Sp0)
 
 
 def _along(xs, ys, x_target):
@@ -334,7 +335,7 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
     c["area_per_feed"] = r * c["v_p"] / c["J_avg"]        # design area [m^2 per kg/s of membrane feed]
     n = S_f.size
     P, reachable = np.full(n, np.nan), np.zeros(n, dtype=bool)
-    prof = {key: np.full(n, np.nan) for key in ("x", "perm_salt", "S_b", "P_b", "lead")}
+    prof = {key: np.full(n, np.nan) for key in ("x", "perm_salt", "S_b", "P_b", "lead", "J_out", "Sp_out")}
     st_perm, st_salt = np.zeros((3, n)), np.zeros((3, n))
     thermo_limit = np.zeros(n, dtype=bool)
     for ns in np.unique(stages):                 # a few groups by stage count, never a loop over cases
@@ -418,8 +419,11 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
                                                                      "RO brine")]
     flags = [f for f in flags if f.any()]
     nan = ~reachable
+    # the membrane wall at the outlet, by the film model with the outlet's local flux (where scale forms first)
+    with np.errstate(invalid="ignore", over="ignore"):
+        outlet_wall = prof["Sp_out"] + (S_bm - prof["Sp_out"]) * np.exp(np.minimum(prof["J_out"] / c["k"], 30.0))
     details = {
-        "feed_pressure": P, "brine_pressure": P_b,
+        "feed_pressure": P, "brine_pressure": P_b, "outlet_wall_salinity": outlet_wall,
         "membrane_feed_salinity": c["S_in"], "membrane_brine_salinity": S_bm,
         "membrane_area": area, "elements": elements, "vessels": vessels, "lead_flux": prof["lead"],
         "average_flux": c["J_avg"], "area_used_fraction": prof["x"],
@@ -444,6 +448,7 @@ DETAILS = {
     "brine_pressure": Detail("brine pressure at the outlet", "bar"),
     "membrane_feed_salinity": Detail("membrane feed salinity (after the exchanger's mixing)", "g/kg"),
     "membrane_brine_salinity": Detail("membrane brine salinity", "g/kg"),
+    "outlet_wall_salinity": Detail("brine at the membrane wall, outlet", "g/kg"),
     "membrane_area": Detail("membrane area", "m2"),
     "elements": Detail("elements", "count"),
     "vessels": Detail("pressure vessels", "count"),
@@ -462,4 +467,5 @@ DETAILS = {
 RO = register(Technology(
     "ro", "reverse osmosis (spiral-wound, solution-diffusion, design mode)", evaluate, ROParameters,
     "feed within the activity model's range; 1-3 stages; design mode (recovery and average flux given)",
-    "Wijmans & Baker 1995; film model (Mulder 1996); Zhu, Christofides & Cohen 2009; Li 2010", DETAILS))
+    "Wijmans & Baker 1995; film model (Mulder 1996); Zhu, Christofides & Cohen 2009; Li 2010", DETAILS,
+    concentrate={"wall_salinity": "outlet_wall_salinity"}))
