@@ -27,6 +27,10 @@ import numpy as np
 
 from .thermo.scaling import SILICA, Limit, ScalingTable
 
+#: a recovery counts as above the limit when it exceeds it by more than this [-] (0.005 percentage points): designs
+#: at the limit converge to 1e-6 where the technology's own solution is that smooth, FO's to a few 1e-6
+ABOVE_TOLERANCE = 5e-5
+
 WALL = "wall_salinity"
 HOTTEST = "hottest_brine_temperature"
 BRINE_TEMPERATURE = "brine_temperature"
@@ -122,18 +126,12 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
     with np.errstate(invalid="ignore", divide="ignore"):
         r_max = np.clip((S_bmax - S_f) / (S_bmax - S_p), 0.0, 1.0)
     r = b(recovery)
-    above = ok & (r > r_max + 1e-6)
+    above = ok & (r > r_max + ABOVE_TOLERANCE)
     rs = lambda x: np.asarray(x).reshape(shape)  # noqa: E731
     nan = lambda x: rs(np.where(ok, x, np.nan))  # noqa: E731
     return Scaling({m: nan(v) for m, v in si.items()}, nan(silica), nan(cf), rs(worst_T),
                    {m: rs(flat_limits[m].value) for m in names}, rs(np.where(ok, limiting, -1)),
                    tuple(names), nan(r_max), rs(above), rs(in_table | ~ok))
-
-
-def recovery_for_limit(max_recovery, feed_salinity, product_salinity):
-    """The brine salinity [kg/kg] that a design at ``max_recovery`` leaves (salt balance)."""
-    r = np.asarray(max_recovery, dtype=float)
-    return (np.asarray(feed_salinity, dtype=float) - r * np.asarray(product_salinity, dtype=float)) / (1 - r)
 
 
 def site_flows(capacity, recovery, product_density, feed_density, brine_density, intake_per_product=None):
@@ -223,5 +221,5 @@ def per_case(sc: Scaling) -> Scaling:
                    np.asarray(sc.in_table).all(axis=1))
 
 
-__all__ = ["Scaling", "Chemistry", "scaling", "assess", "per_case", "site_flows", "recovery_for_limit", "SILICA",
+__all__ = ["Scaling", "Chemistry", "scaling", "assess", "per_case", "site_flows", "SILICA",
            "WALL", "HOTTEST", "BRINE_TEMPERATURE", "INTAKE"]
