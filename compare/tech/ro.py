@@ -66,6 +66,9 @@ BAR = 1e5
 TEMPERATURE_EXPONENT = 2640.0  # [K], membrane temperature correction (from memory, supplier form)
 P_SEARCH_MAX = 400e5           # [Pa] upper end of the feed-pressure search
 S_CAP = 0.34                   # [kg/kg] wall salinities are capped here (inside the osmotic table) during the search
+CORRECTOR_TOL = 1e-3           # march: a step's end is settled when it moves by less than this share of the step
+CORRECTOR_PASSES = 12          # march: at most this many corrector passes per step
+GRADING = 2.0                  # march: permeate steps shrink towards the outlet as (1 - t)^GRADING
 
 
 @dataclass(frozen=True)
@@ -183,6 +186,16 @@ def _log_mean_inverse(J0, J1):
     return np.where((J1 <= 0) | (J0 <= 0), np.inf, lm)
 
 
+def _step_salt(dm, J0, J1, Sp0, Sp1, B):
+    """Salt passed with the permeate dm of one step [kg per kg/s of feed]: the local permeate S_p = B S_m / (J + B)
+    integrated over the step with J linear in the permeate, (mean of B S_m) x dm x log-mean of 1/(J + B). Unlike the
+    trapezoid on S_p it stays right where the flux collapses at the restriction (S_p -> S_m over a short stretch)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        BSm = 0.5 * (Sp0 * (J0 + B) + Sp1 * (J1 + B))             # S_p (J + B) = B S_m at the two ends
+        out = dm * BSm * _log_mean_inverse(J0 + B, J1 + B)
+    return np.where(B > 0, out, 0.0)
+
+
 def _march(P_feed, c, shares, n_seg, full=False):
     """March the vessel train from the membrane feed to recovery ``c["r"]`` in equal steps of permeate, at feed
     pressure P_feed (gauge) [Pa], per kg/s of membrane feed.
@@ -199,32 +212,65 @@ def _march(P_feed, c, shares, n_seg, full=False):
     boost = c["boost"]
     scale = c["v_p"] / c["area_per_feed"]          # area fraction per kg of permeate at unit flux
 
-    def pressure(x):
+    def pressure(x, idx=slice(None)):
         s = np.clip(np.searchsorted(cum, x, side="right") - 1, 0, n_st - 1)
         frac = np.clip((x - cum[s]) / share[s], 0.0, 1.0)
-        return P_feed - drop_stage * (s + frac) + boost * s, s
+        return P_feed[idx] - drop_stage[idx] * (s + frac) + boost[idx] * s, s
 
     steps = n_seg * n_st
-    dm = c["r"] / steps
+    # permeate steps graded towards the outlet, where the flux may collapse (the restriction): the march's share of
+    # the recovery after step j is 1 - (1 - j/steps)^2
+    edges = 1.0 - (1.0 - np.arange(steps + 1) / steps) ** GRADING
     Q = np.ones_like(P_feed)
     salt = c["S_in"].copy()
     x = np.zeros_like(P_feed)
     J0, Sp0 = local_flux(P_feed, salt, T, A, B, k, pi, iterations=8)
+    trend = np.zeros_like(P_feed)                 # dJ/dm of the last step (for the predictor)
     if full:
         xs, ms, cs = [x], [np.zeros_like(P_feed)], [np.zeros_like(P_feed)]
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for j in range(steps):
-            x_pred = np.minimum(x + dm * scale / np.maximum(J0, 1e-300), cum[-1])
+            dm = c["r"] * (edges[j + 1] - edges[j])
+            # predictor: the end of the step placed with the flux extrapolated from the last step's trend
+            J_guess = np.maximum(J0 + trend * dm, 0.5 * J0)
+            x_pred = np.minimum(x + dm * scale * _log_mean_inverse(J0, J_guess), cum[-1])
             P1, _ = pressure(x_pred)
             S_b1 = (salt - dm * Sp0) / (Q - dm)
             J1, Sp1 = local_flux(P1, S_b1, T, A, B, k, pi, J0)
-            x = x + dm * scale * _log_mean_inverse(J0, J1)
+            x1 = x + dm * scale * _log_mean_inverse(J0, J1)
+            # corrector: the flux at the end is that of the pressure where the step really ends (further along
+            # where the flux collapses near the restriction): x1 = f(x1) with f(x) = x + dm scale LM(J0, J1(x)), an
+            # increasing map, solved by secant steps on f(x) - x from the predictor's two points, for the cases
+            # still moving only
+            xa, Fa, xb = x_pred, x1 - x_pred, x1.copy()
+            moving = np.flatnonzero(np.isfinite(x1) & (np.abs(x1 - x_pred) > CORRECTOR_TOL * (x1 - x)))
+            for _ in range(CORRECTOR_PASSES):
+                if moving.size == 0:
+                    break
+                cm, xm = take(c, moving), xb[moving]
+                P1m, _ = pressure(np.minimum(xm, cum[-1]), moving)
+                S_b1m = (salt[moving] - _step_salt(dm[moving], J0[moving], J1[moving], Sp0[moving], Sp1[moving],
+                                                   cm["B"])) / (Q[moving] - dm[moving])
+                J1m, Sp1m = local_flux(P1m, S_b1m, cm["T"], cm["A"], cm["B"], cm["k"], pi, J1[moving])
+                fm = x[moving] + dm[moving] * scale[moving] * _log_mean_inverse(J0[moving], J1m)
+                Fm = fm - xm
+                settled = ~np.isfinite(fm) | (np.abs(Fm) <= CORRECTOR_TOL * (fm - x[moving]))
+                J1[moving], Sp1[moving], x1[moving] = J1m, Sp1m, fm
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    x_sec = xm - Fm * (xm - xa[moving]) / (Fm - Fa[moving])
+                good = np.isfinite(x_sec) & (x_sec > x[moving])
+                xa[moving], Fa[moving] = xm, Fm
+                xb[moving] = np.where(good, x_sec, fm)
+                moving = moving[~settled]
+            with np.errstate(invalid="ignore"):
+                trend = np.where(np.isfinite(x1), np.minimum((J1 - J0) / dm, 0.0), 0.0)
+            x = x1
             Q = Q - dm
-            salt = salt - dm * 0.5 * (Sp0 + Sp1)
+            salt = salt - _step_salt(dm, J0, J1, Sp0, Sp1, B)
             J0, Sp0 = J1, Sp1
             if full:
                 xs.append(x)
-                ms.append(np.full_like(x, dm * (j + 1)))
+                ms.append(c["r"] * edges[j + 1])
                 cs.append(c["S_in"] - salt)
     if not full:
         return x
