@@ -481,6 +481,11 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
                           "FO thermal regenerator: its heat temperature is too low for the effects it must drive "
                           "(gain output ratio x (draw BPE + temperature difference) above the feed)",
                           T_reg < needed * (1 - 1e-12)))
+        flags.append(Flag("simplification", "thermal_regenerator", "heat", "fo",
+                          "FO thermal regenerator: a screening model; its heat is the latent heat over a gain output "
+                          "ratio, taken at the lowest temperature that drives its effects unless "
+                          "fo.regenerator.heat_temperature is given, and checked against the site's heat",
+                          np.ones(size, dtype=bool)))
         h_fg = _water.latent_heat(0.5 * (T_reg + T_low))
         heat = h_fg / gor * rho                       # J per m^3 of product
         heat_T = T_reg
@@ -502,7 +507,7 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
             "draw_makeup": makeup / r * rho,
         })
     nan = ~reached | beyond
-    flags = [f.with_mask(rs(f.mask)) for f in flags]
+    flags = [f.with_mask(rs(f.mask).astype(bool)) for f in flags]
     return Performance(
         electricity=rs(np.where(nan, np.nan, electricity)), heat=rs(np.where(nan, np.nan, heat)),
         heat_temperature=rs(heat_T), recovery=rs(r), product_salinity=rs(product),
