@@ -68,7 +68,7 @@ P_SEARCH_MAX = 400e5           # [Pa] upper end of the feed-pressure search
 S_CAP = 0.34                   # [kg/kg] wall salinities are capped here (inside the osmotic table) during the search
 CORRECTOR_TOL = 1e-3           # march: a step's end is settled when it moves by less than this share of the step
 CORRECTOR_PASSES = 60          # march: at most this many corrector passes per step
-GRADING = 2.0                  # march: permeate steps shrink towards the outlet as (1 - t)^GRADING
+GRADING = 3.0                  # march: permeate steps shrink towards the outlet as (1 - t)^GRADING
 
 
 @dataclass(frozen=True)
@@ -205,7 +205,16 @@ def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressur
     hi, F_hi = np.full(n, np.inf), np.full(n, np.nan)
     zero = np.full(n, np.inf)
     trial = x_pred.copy()
-    moving = np.arange(n)
+    span0 = np.maximum(x_pred - x, 1e-300)          # the predicted step, the scale of the tolerance
+    # settled at once where the pressure at the predictor's end and at the end it reached differ too little to
+    # move the flux by the tolerance (no pressure drop, or a good prediction)
+    with np.errstate(invalid="ignore"):
+        dP = np.abs(pressure(np.minimum(np.where(np.isfinite(x1), x1, x_end), x_end))[0]
+                    - pressure(np.minimum(x_pred, x_end))[0])
+        moving = np.flatnonzero(~(np.isfinite(x1) & (c["A"] * dP <= CORRECTOR_TOL * J1))
+                                & np.isfinite(x) & (J0 > 0))      # a march that has failed stays failed
+    if moving.size == 0:
+        return x1, J1, Sp1
     for _ in range(CORRECTOR_PASSES + 1):
         xm, fm = trial[moving], x1[moving]
         span = np.where(np.isfinite(fm), fm, xm) - x[moving]
@@ -238,7 +247,7 @@ def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressur
         step = np.where(step >= z, 0.5 * (l + z), step)
         nxt = np.where(bracketed, np.clip(falsi, l, h), step)
         # no fixed point before the flux vanishes: the bracket [lo, zero] has closed
-        gone = ~settled & ~np.isfinite(h) & np.isfinite(z) & (z - l <= CORRECTOR_TOL * (z - x[moving]))
+        gone = ~settled & ~np.isfinite(h) & np.isfinite(z) & (z - l <= CORRECTOR_TOL * span0[moving])
         settled = settled | gone
         x1[moving] = np.where(gone, np.inf, x1[moving])
         moving = moving[~settled]
@@ -284,7 +293,7 @@ def _march(P_feed, c, shares, n_seg, full=False):
 
     steps = n_seg * n_st
     # permeate steps graded towards the outlet, where the flux may collapse (the restriction): the march's share of
-    # the recovery after step j is 1 - (1 - j/steps)^2
+    # the recovery after step j is 1 - (1 - j/steps)^GRADING
     edges = 1.0 - (1.0 - np.arange(steps + 1) / steps) ** GRADING
     Q = np.ones_like(P_feed)
     salt = c["S_in"].copy()
