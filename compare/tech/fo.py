@@ -6,25 +6,31 @@ Exchanger
 ---------
 FO mode (active layer towards the feed, support towards the draw). Local water flux J and reverse salt flux J_s from
 the film model on the feed side (mass-transfer coefficient k) and internal polarisation in the support (structural
-parameter S over the draw solute's diffusivity D), with the salt term of Tiraferri et al. (2011) and Yip et al.
-(2010), written on salinities (mass fractions) so that any activity model gives the osmotic pressures:
+parameter S over the draw solute's diffusivity D, K = S/D), in the form of Tiraferri et al. (2011, eq. 2) and Yip et
+al. (2010) for the same salt on both sides, written on total salinities (mass fractions) so that any activity model
+gives the osmotic pressures:
 
-    c_F,m = c_F exp(J/k) + (J_s/J) (exp(J/k) - 1)             feed side of the active layer: its own salt
-                                                              polarised plus the draw solute that came through
-    c_D,i = c_D exp(-J S/D) - (J_s/J) (1 - exp(-J S/D))       draw side of the active layer (inside the support)
-    J_s = B (c_D,i - (J_s/J) (exp(J/k) - 1)),                 reverse flux of the draw solute (none in the feed)
-    J = A (Pi_D(c_D,i) - Pi_F(c_F,m))
+    J_s   = B (c_D e^{-J K} - c_F e^{J/k}) / (1 + (B/J)(e^{J/k} - e^{-J K}))
+    c_D,i = c_D e^{-J K} - (J_s/J)(1 - e^{-J K})       draw side of the active layer (inside the support)
+    c_F,m = c_F e^{J/k} + (J_s/J)(e^{J/k} - 1)          feed side of the active layer
+    J     = A (Pi_D(c_D,i) - Pi_F(c_F,m))
 
-J is solved by a bracketed Newton iteration. Pi_D comes from the draw's activity model (NaCl: the Pitzer model),
-Pi_F from the feed's, both through the bounded osmotic tables of the floor core. Without polarisation or salt
-passage (k -> inf, S = 0, B = 0) the flux is exactly A (Pi_D - Pi_F) (tested). Salt of the feed is taken as fully
-rejected; the draw salt that crosses ends up in the feed's brine.
+The transport lines are linear in the salinities; only the last is nonlinear, through the activity models (Pi_D:
+the draw's, NaCl by Pitzer; Pi_F: the feed's). With linear osmotic pressures it is Tiraferri's closed form exactly.
+Assumption: a seawater (or ion-mix) feed counts as NaCl of the same mass fraction for the membrane (one salt
+permeability B for both sides). Since NaCl has a higher osmotic pressure per kg than sea salt, the net salt flux
+can run from the feed into the draw where the two are near osmotic balance; the draw then carries that salt to the
+regenerator, which treats it as NaCl. J is solved by a safeguarded Newton iteration to a stated tolerance
+(:data:`FLUX_RTOL`).
 
-The exchanger is marched from the feed inlet (where the diluted draw leaves) in equal steps of permeate, the area of
-a step being its permeate over the log-mean flux (as in the RO model), with the total reverse salt flux found by a
-fixed-point iteration on the draw's salt balance. The regenerated draw enters at the feed outlet at
-``draw_concentration`` with ``draw_flow_ratio`` kg per kg of feed. Where the flux falls to zero before the recovery
-is reached (the draw is no stronger than the feed or the brine beside it), the case is infeasible.
+The exchanger is marched from the feed inlet (where the diluted draw leaves, at salinity u) in equal steps of
+permeate, the area of a step being its permeate over the log-mean flux (as in the RO model). The march needs no
+inner iteration: the draw's inlet salinity follows from u and the salt passed. Design mode (``draw_concentration``
+not given, the default): u is solved so that the exchanger's average flux is ``flux`` (:func:`design_draw`); the
+draw's inlet salinity is reported. Rating mode (``draw_concentration`` given): u is solved so that the inlet salinity
+is the given one. A design whose draw would exceed 6 mol/kg (the Pitzer model's range; NaCl's solubility is about
+6.1 mol/kg at 25 degC) is infeasible; in rating mode, a case whose flux falls to zero before the recovery is reached
+(the draw is no stronger than the feed or the brine beside it) is infeasible.
 
 Regeneration
 ------------
@@ -32,8 +38,9 @@ Regeneration
 pressure first), at the recovery that returns the draw to ``draw_concentration``; its permeate is the product.
 ``thermal``: a screening model: the product water is evaporated from the diluted draw in ``gain_output_ratio``
 effect-equivalents, heat per kg of product = latent heat at the regenerator's brine temperature / GOR (sensible heat
-assumed recovered); the heat must be supplied at ``heat_temperature``, which must exceed the feed temperature by GOR
-times (the draw's boiling-point elevation + ``temperature_difference`` per effect). Figures of this model are
+assumed recovered); the heat is taken at the lowest temperature that drives the effects, the feed temperature plus a
+cold-end approach plus GOR times (the draw's boiling-point elevation + ``temperature_difference`` per effect), or at a
+given ``heat_temperature``, which must not be below that. Figures of this model are
 screening values (from memory); its electricity is in ``circulation_electricity``.
 
 References
@@ -65,6 +72,7 @@ from ..thermo.model import range_flags
 from .base import Detail, Feed, Performance, Technology, case_shape, register, take
 
 LMH = 1e-3 / 3600.0
+S_CAP = 0.34               # [kg/kg] interface salinities are held inside the osmotic tables
 COLD_END_APPROACH = 5.0   # [K] thermal regenerator's last condenser above the feed (practice, no source)
 
 #: RO keys that the FO regenerator takes from ``[fo.regenerator]``, with the defaults it changes
@@ -72,7 +80,8 @@ _RO_OWN = {"recovery", "capital_cost", "fixed_om", "pretreatment_cost", "chemica
 _RO_FIELDS = set(specs_of(_ro.ROParameters)) - _RO_OWN
 _RO_DEFAULTS = {
     "other_electricity": ("0 kWh/m^3", "tool default: the FO plant's own other_electricity covers intake and treatment"),
-    "flux": ("12 L/m^2/h", "common practice: seawater-strength RO design flux"),
+    "flux": ("10 L/m^2/h", "common practice: RO of feeds above seawater strength runs at the low end of the "
+                           "seawater design flux, 10-12 L/m2/h"),
 }
 
 
@@ -82,8 +91,8 @@ RegeneratorParameters = subrecord(
     extra=[
         ("gain_output_ratio", param("fraction", "8", "from memory: thermal regeneration in a multi-effect evaporator "
                                     "(thermal only)", expect="a gain output ratio such as 8", lo=0.0, lo_open=True)),
-        ("heat_temperature", param("temperature", "75 degC", "from memory: low-temperature thermal regeneration "
-                                   "(thermal only)", expect='a temperature such as "75 degC"', lo=T0_C + 20,
+        ("heat_temperature", param("temperature", OPTIONAL, "tool default: the lowest that drives the effects with "
+                                   "the draw (thermal only)", expect='a temperature such as "75 degC"', lo=T0_C + 20,
                                    hi=T0_C + 200)),
         ("temperature_difference", param("quantity", "3 K", "common practice: a few K per effect (thermal only)", "K",
                                          'a temperature difference such as "3 K"', lo=0.0, lo_open=True)),
@@ -102,9 +111,13 @@ class FOParameters:
     recovery: Any = param("fraction", "0.35", "from memory: FO on seawater, 30-50 %", expect="a mass recovery in (0, 1)",
                      lo=0.0, hi=1.0, lo_open=True, hi_open=True, role="recovery")
     draw: Any = param("choice", "nacl", "tool default: the draw solute with an activity model (NaCl: Pitzer)", choices=("nacl",))
-    draw_concentration: Any = param("nacl_concentration", "1.2 mol/kg", "from memory: NaCl draws 0.5-2 mol/kg",
-                               expect='a molality such as "1.5 mol/kg" or a mass fraction such as "80 g/kg"',
-                               lo=0.0, hi=0.26, lo_open=True)
+    draw_concentration: Any = param("nacl_concentration", OPTIONAL, "tool default: design mode, the draw is solved "
+                                    "from fo.flux",
+                                    expect='a molality such as "1.5 mol/kg" or a mass fraction such as "80 g/kg"',
+                                    lo=0.0, hi=0.26, lo_open=True)
+    flux: Any = param("quantity", "3 L/m^2/h", "from memory: thin-film composite FO against seawater-strength feeds "
+                      "and brines, a few L/m2/h averaged along a counter-current exchanger", "m/s",
+                      'an average flux such as "3 L/m^2/h"', lo=0.0, lo_open=True)
     draw_flow_ratio: Any = param("fraction", "1.0", "from memory: counter-current FO runs near equal flows",
                             expect="regenerated draw per kg of feed, such as 1.0", lo=0.0, lo_open=True)
     water_permeability: Any = param("quantity", "1.5 L/m^2/h/bar", "from memory: thin-film composite FO membranes",
@@ -146,108 +159,237 @@ class FOParameters:
     regenerator: Any = table(RegeneratorParameters)
 
 
-def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, iterations=None):
-    """Water flux J [m/s] and reverse salt flux J_s [m/s x kg/kg] of an FO membrane in FO mode, with the bulk draw
-    c_D and feed c_F [kg/kg] beside it; also the interface salinities (c_D,i, c_F,m). Vectorised.
+#: local flux solve: |residual| <= FLUX_RTOL x the ideal flux A (Pi_D(c_D) - Pi_F(c_F)) in every case
+FLUX_RTOL = 1e-12
+FLUX_MAX_ITER = 60
 
-    ``pi_D(c, T)`` and ``pi_F(c, T)`` give the osmotic pressures [Pa]; ``k = inf`` means no external polarisation,
-    ``S_struct = 0`` no internal polarisation, ``B = 0`` no salt passage. Where the draw is not stronger than the feed,
-    J = 0.
+
+def _interfaces(J, c_D, c_F, B, inv_k, K):
+    """Reverse salt flux and the salinities at the two faces of the active layer at water flux J (Tiraferri et al.
+    2011 with the same salt on both sides; total salinities)."""
+    Jc = np.maximum(J, 1e-30)
+    with np.errstate(over="ignore", invalid="ignore"):
+        a = np.where(inv_k > 0, np.expm1(np.minimum(Jc * inv_k, 50.0)) / Jc, 0.0)   # (e^{J/k} - 1)/J -> 1/k
+        b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)                        # (1 - e^{-J K})/J -> K
+    e_F, e_D = 1.0 + Jc * a, 1.0 - Jc * b                                          # e^{J/k}, e^{-J K}
+    Js = B * (c_D * e_D - c_F * e_F) / (1.0 + B * (a + b))
+    return Js, c_D * e_D - Js * b, c_F * e_F + Js * a
+
+
+def flux_residual(J, c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F):
+    """Residual [m/s] of the local flux equation, J - A (Pi_D(c_D,i) - Pi_F(c_F,m)), at water flux J [m/s]
+    (interfaces from :func:`local_flux`'s transport model). Zero at the solution."""
+    K = np.asarray(S_struct, dtype=float) / D
+    k = np.asarray(k, dtype=float)
+    inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
+    _, cDi, cFm = _interfaces(J, c_D, c_F, B, inv_k, K)
+    return J - A * (pi_D(np.clip(cDi, 0.0, S_CAP), T) - pi_F(np.clip(cFm, 0.0, S_CAP), T))
+
+
+def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None, max_iter=FLUX_MAX_ITER,
+               stats=None):
+    """Water flux J [m/s], reverse salt flux J_s [m/s x kg/kg] and the salinities at the two faces of the active
+    layer (c_D,i, c_F,m) [kg/kg] of an FO membrane in FO mode, with bulk draw c_D and feed c_F [kg/kg] beside it.
+    Vectorised; every argument broadcasts.
+
+    Transport (Tiraferri et al. 2011, eq. 2, and Yip et al. 2010, written on total salinities with the same salt on
+    both sides, the feed's salts counting as NaCl for the membrane)::
+
+        J_s  = B (c_D e^{-J K} - c_F e^{J/k}) / (1 + (B/J)(e^{J/k} - e^{-J K}))      K = S_struct / D
+        c_D,i = c_D e^{-J K} - (J_s/J)(1 - e^{-J K}),  c_F,m = c_F e^{J/k} + (J_s/J)(e^{J/k} - 1)
+        J = A (Pi_D(c_D,i) - Pi_F(c_F,m))
+
+    With linear osmotic pressures (Pi = k_pi c for both) this is Tiraferri's closed form exactly; with our activity
+    models only the last line is nonlinear. J_s < 0 would be a net forward flux of salt.
+
+    Solved by Newton's method (finite-difference slope) safeguarded by the bracket [0, A (Pi_D(c_D) - Pi_F(c_F))],
+    case by case until |J - A (...)| <= ``rtol`` (default :data:`FLUX_RTOL`) x the bracket's upper end; cases leave the loop as they converge.
+    ``pi_D(c, T)`` and ``pi_F(c, T)`` give osmotic pressures [Pa]; ``k = inf`` means no external polarisation,
+    ``S_struct = 0`` no internal polarisation, ``B = 0`` no salt passage. Where no positive flux solves the
+    equation (the draw is not stronger than the feed across the active layer), J = 0. ``stats`` (a dict), if given,
+    receives the number of iterations and residual evaluations and the largest scaled residual.
     """
-    c_D, c_F = np.broadcast_arrays(np.asarray(c_D, dtype=float), np.asarray(c_F, dtype=float))
-    K = np.asarray(S_struct / D, dtype=float)          # [s/m] resistance to solute diffusion in the support
+    c_D, c_F, T, A, B, S_struct, D, k = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+        c_D, c_F, T, A, B, S_struct, D, k)))
+    shape = c_D.shape
+    c_D, c_F, T, A, B, K, k = (x.ravel() for x in (c_D, c_F, T, A, B, S_struct / D, k))
     inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
 
-    def interfaces(J):
-        Jc = np.maximum(J, 1e-30)
-        with np.errstate(over="ignore"):
-            a = np.where(inv_k > 0, np.expm1(Jc * inv_k) / Jc, 0.0)   # (exp(J/k) - 1)/J -> 1/k
-            b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)        # (1 - exp(-J K))/J -> K
-        # the draw solute's difference across the active layer (none of it in the bulk feed):
-        # c_D,i - c_F,m^draw = c_D (1 - J b) - J_s (a + b), J_s = B x that difference
-        Js = B * c_D * (1 - Jc * b) / (1 + B * (a + b))
-        # feed side: its own (rejected) salt polarised, plus the draw solute that came through
-        return c_D * (1 - Jc * b) - Js * b, c_F * (1 + Jc * a) + Js * a, Js
+    def resid(J, i):
+        _, cDi, cFm = _interfaces(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
+        return J - A[i] * (pi_D(np.clip(cDi, 0.0, S_CAP), T[i]) - pi_F(np.clip(cFm, 0.0, S_CAP), T[i]))
 
-    def resid(J):
-        cDi, cFm, _ = interfaces(J)
-        return J - A * (pi_D(np.clip(cDi, 0.0, 0.34), T) - pi_F(np.clip(cFm, 0.0, 0.34), T))
-
-    J_hi = A * (pi_D(c_D, T) - pi_F(c_F, T))
-    on = J_hi > 0
-    lo = np.zeros_like(J_hi)
-    hi = np.where(on, J_hi, 1e-30)
-    J = 0.5 * hi if J0 is None else np.clip(J0, 0.05 * hi, 0.95 * hi)
-    for _ in range(iterations or (24 if J0 is None else 8)):
-        r = resid(J)
-        lo = np.where(r < 0, J, lo)
-        hi = np.where(r >= 0, J, hi)
-        h = np.maximum(1e-7 * J, 1e-16)
-        d = (resid(J + h) - r) / h
-        step = J - r / np.where(d > 0, d, 1.0)
-        J = np.where((step > lo) & (step < hi), step, 0.5 * (lo + hi))
-    J = np.where(on, J, 0.0)
-    cDi, cFm, Js = interfaces(J)
-    return J, np.where(on, Js, 0.0), cDi, cFm
-
-
-def _exchanger(S_f, T, r, S_din, m_din, A, B, S_struct, D, k, pi_D, pi_F, rho, steps):
-    """Counter-current exchanger per kg/s of feed: area [m^2 per kg/s], draw out salinity, reverse salt [kg/s], the
-    feed's brine salinity, and the smallest osmotic-pressure margin along the way.
-
-    The total reverse salt flux fixes the draw's state at the feed inlet (where the march starts); it is found by a
-    secant iteration on (salt passed in the march) - (salt assumed), case by case in the arrays."""
-    dm = r / steps
-    salt_in = m_din * S_din
-    args = dict(S_f=S_f, T=T, r=r, m_din=m_din, A=A, B=B, S_struct=S_struct, D=D, k=k, rho=rho, dm=dm,
-                salt_in=salt_in)
-
-    def march(guess, idx):
-        a = take(args, idx)
-        T_, A_, B_, Ss, D_, k_, rho_, dm_ = (a[x] for x in ("T", "A", "B", "S_struct", "D", "k", "rho", "dm"))
-        Qf, sf = np.ones(idx.size), a["S_f"].copy()
-        md, sd = a["m_din"] + a["r"], a["salt_in"] - guess
-        J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T_, A_, B_, Ss, D_, k_, pi_D, pi_F)
-        area, passed = np.zeros(idx.size), np.zeros(idx.size)
-        margin = pi_D(sd / md, T_) - pi_F(sf / Qf, T_)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            for _ in range(steps):
-                # predictor: the states at the end of the step with the salt flux at its start
-                ds_pred = Js0 * dm_ / np.maximum(J0, 1e-30)
-                Qf1, md1 = Qf - dm_, md - dm_
-                J1, Js1, _, _ = local_flux((sd + ds_pred) / md1, (sf + ds_pred) / Qf1, T_, A_, B_, Ss, D_, k_,
-                                           pi_D, pi_F, J0=J0)
-                dA = dm_ / rho_ * _ro._log_mean_inverse(J0, J1)
-                ds = rho_ * 0.5 * (Js0 + Js1) * np.where(np.isfinite(dA), dA, 0.0)
-                area, passed = area + dA, passed + ds
-                Qf, md, sf, sd = Qf1, md1, sf + ds, sd + ds
-                margin = np.minimum(margin, pi_D(sd / md, T_) - pi_F(sf / Qf, T_))
-                J0, Js0 = J1, Js1
-        return passed, area, margin
-
-    n = S_f.size
+    rtol = FLUX_RTOL if rtol is None else rtol
+    n = c_D.size
     everyone = np.arange(n)
-    x0 = np.zeros(n)
-    p0, area, margin = march(x0, everyone)
-    f0 = p0 - x0
-    x1 = p0.copy()
-    guess = x1.copy()
-    active = np.flatnonzero(np.isfinite(area) & (np.abs(f0) > 1e-14))
-    for _ in range(12):
+    J_hi = A * (pi_D(np.clip(c_D, 0.0, S_CAP), T) - pi_F(np.clip(c_F, 0.0, S_CAP), T))
+    tol = rtol * np.abs(J_hi)
+    # a positive root exists where the residual is negative just above J = 0 (the bracket's other end has
+    # r(J_hi) >= 0: polarisation and salt passage only lower the driving force)
+    on = (J_hi > 0) & (resid(np.full(n, 1e-30), everyone) < 0)
+    lo, hi = np.zeros(n), np.where(on, J_hi, 0.0)
+    J = 0.5 * hi if J0 is None else np.clip(np.broadcast_to(np.asarray(J0, dtype=float), shape).ravel(),
+                                             0.02 * hi, 0.98 * hi)
+    J = np.where(on, J, 0.0)
+    active = np.flatnonzero(on)
+    evaluations, it, worst = 2, 0, 0.0
+    while active.size and it < max_iter:
+        it += 1
+        Ja = J[active]
+        r = resid(Ja, active)
+        evaluations += 2
+        done = (np.abs(r) <= tol[active]) | (hi[active] - lo[active] <= 1e-15 * J_hi[active])
+        lo[active] = np.where(r < 0, Ja, lo[active])
+        hi[active] = np.where(r > 0, Ja, hi[active])
+        h = np.maximum(1e-7 * Ja, 1e-18)
+        d = (resid(Ja + h, active) - r) / h
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = Ja - r / np.where(d > 0, d, np.nan)
+        la, ha = lo[active], hi[active]
+        # a Newton step inside the (closed) bracket is taken, even onto its end; otherwise bisect
+        new = np.where((step >= la) & (step <= ha), step, 0.5 * (la + ha))
+        J[active] = np.where(done, Ja, new)
+        worst = max(worst, float(np.max(np.abs(r[done]) / np.maximum(tol[active][done], 1e-300), initial=0.0)))
+        active = active[~done]
+    if stats is not None:
+        stats.update(iterations=it, evaluations=evaluations, unconverged=int(active.size), worst=worst * rtol)
+    Js, cDi, cFm = _interfaces(J, c_D, c_F, B, inv_k, K)
+    off = ~on
+    rs = lambda x: x.reshape(shape)  # noqa: E731
+    return (rs(np.where(off, 0.0, J)), rs(np.where(off, 0.0, Js)), rs(np.where(off, c_D, cDi)),
+            rs(np.where(off, c_F, cFm)))
+
+
+#: NaCl solubility at 25 degC, 6.14 mol/kg (from memory: CRC Handbook of Chemistry and Physics, about 26.4 % by
+#: mass); the Pitzer NaCl model is validated to 6 mol/kg, which is the binding limit of a designed draw
+NACL_SOLUBILITY = 6.14
+DRAW_LIMIT = min(6.0, NACL_SOLUBILITY) * M_NACL / (1 + min(6.0, NACL_SOLUBILITY) * M_NACL)   # [kg/kg]
+
+
+def _march(u, a, pi_D, pi_F, steps):
+    """March the counter-current exchanger from the feed inlet, where the diluted draw leaves at salinity ``u``
+    [kg/kg], to the feed outlet, per kg/s of feed, in equal steps of permeate. ``a`` holds the per-case inputs.
+
+    Returns the area [m^2 per kg/s of feed] (inf where the flux vanishes first), the salt passed from the draw to
+    the feed [kg/s per kg/s of feed; negative for a net forward flux], the draw inlet salinity this implies
+    [kg/kg] and the smallest bulk osmotic-pressure margin along the way [Pa]."""
+    T, A, B, Ss, D, k, rho, r, m = (a[x] for x in ("T", "A", "B", "S_struct", "D", "k", "rho", "r", "m_din"))
+    dm = r / steps
+    Qf, sf = np.ones(u.size), a["S_f"].copy()
+    md = m + r
+    sd = u * md
+    J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T, A, B, Ss, D, k, pi_D, pi_F)
+    area, passed = np.zeros(u.size), np.zeros(u.size)
+    margin = pi_D(sd / md, T) - pi_F(sf / Qf, T)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for _ in range(steps):
+            # predictor: the states at the end of the step with the salt flux at its start
+            ds_pred = Js0 * dm / np.maximum(J0, 1e-30)
+            Qf1, md1 = Qf - dm, md - dm
+            J1, Js1, _, _ = local_flux((sd + ds_pred) / md1, (sf + ds_pred) / Qf1, T, A, B, Ss, D, k,
+                                       pi_D, pi_F, J0=J0)
+            dA = dm / rho * _ro._log_mean_inverse(J0, J1)
+            ds = rho * 0.5 * (Js0 + Js1) * np.where(np.isfinite(dA), dA, 0.0)
+            area, passed = area + dA, passed + ds
+            Qf, md, sf, sd = Qf1, md1, sf + ds, sd + ds
+            margin = np.minimum(margin, pi_D(sd / md, T) - pi_F(sf / Qf, T))
+            J0, Js0 = J1, Js1
+    return dict(area=area, passed=passed, S_din=sd / m, margin=margin)
+
+
+def _equivalent_draw(S_f, T, pi_D, pi_F):
+    """NaCl salinity [kg/kg] whose osmotic pressure equals the feed's (bisection on the tables), the weakest draw
+    outlet that can still pull water at the feed inlet."""
+    target = pi_F(S_f, T)
+    lo, hi = np.zeros_like(S_f), np.full_like(S_f, S_CAP)
+    for _ in range(48):
+        mid = 0.5 * (lo + hi)
+        up = pi_D(mid, T) < target
+        lo, hi = np.where(up, mid, lo), np.where(up, hi, mid)
+    return hi
+
+
+def _rate(a, S_din, pi_D, pi_F, steps, tol=1e-14, max_iter=16):
+    """Rating: the draw outlet salinity u that a given inlet salinity S_din leads to, by a secant iteration on
+    S_din(u) - S_din, for all cases at once (a case leaves as it converges)."""
+    m, r = a["m_din"], a["r"]
+    n = S_din.size
+    u0 = S_din * m / (m + r)                     # no salt passage
+    out = _march(u0, a, pi_D, pi_F, steps)
+    f0 = out["S_din"] - S_din
+    u1 = u0 - f0 * m / (m + r)
+    u = u0.copy()
+    active = np.flatnonzero(np.isfinite(out["area"]) & (np.abs(f0) > tol))
+    for _ in range(max_iter):
         if active.size == 0:
             break
-        p1, a1, m1 = march(x1[active], active)
-        f1 = p1 - x1[active]
-        area[active], margin[active], guess[active] = a1, m1, x1[active]
+        o = _march(u1[active], take(a, active), pi_D, pi_F, steps)
+        f1 = o["S_din"] - S_din[active]
+        for key in out:
+            out[key][active] = o[key]
+        u[active] = u1[active]
         with np.errstate(divide="ignore", invalid="ignore"):
-            slope = (f1 - f0[active]) / (x1[active] - x0[active])
-            nxt = np.where(np.isfinite(slope) & (slope != 0), x1[active] - f1 / slope, p1)
-        x0[active], f0[active] = x1[active], f1
-        x1[active] = np.maximum(nxt, 0.0)
-        active = active[np.isfinite(a1) & (np.abs(f1) > 1e-14)]
-    # the draw leaves with the salt the march assumed; the brine gained what the march passed (equal when converged)
-    S_dout = (salt_in - guess) / (m_din + r)
-    return dict(area=area, S_dout=S_dout, Js=guess, S_b=(S_f + guess) / (1 - r), margin=margin)
+            slope = (f1 - f0[active]) / (u1[active] - u0[active])
+            nxt = np.where(np.isfinite(slope) & (slope > 0), u1[active] - f1 / slope,
+                           u1[active] - f1 * m[active] / (m[active] + r[active]))
+        u0[active], f0[active] = u1[active], f1
+        u1[active] = np.clip(nxt, 0.0, S_din[active])
+        active = active[np.isfinite(o["area"]) & (np.abs(f1) > tol)]
+    out["u"] = u
+    out["converged"] = np.ones(n, dtype=bool)
+    return out
+
+
+def _search(x):
+    """Search function of the design: design area / area needed - 1, increasing in the draw, -1 where the area is
+    infinite."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(np.isfinite(x) & (x > 0), 1.0 / x, 0.0) - 1.0
+
+
+def design_draw(a, area_design, pi_D, pi_F, steps, tol=1e-10, max_iter=60):
+    """Design: the draw outlet salinity u [kg/kg] at which the exchanger needs exactly ``area_design`` [m^2 per
+    kg/s of feed], by the Illinois variant of regula falsi on design area / area needed - 1 (an average flux ratio,
+    nearly linear in the draw), bracketed between the feed's osmotic equivalent and :data:`DRAW_LIMIT`, bisecting
+    after a trial where the flux vanishes; for all cases at once. Returns the march at the solution with ``u`` and
+    ``within``: False where even a draw leaving at the limit cannot reach the design flux."""
+    n = a["S_f"].size
+    lo = _equivalent_draw(a["S_f"], a["T"], pi_D, pi_F)
+    f_lo = -np.ones(n)
+    hi = np.full(n, DRAW_LIMIT)
+    top = _march(hi, a, pi_D, pi_F, steps)
+    f_hi = _search(top["area"] / area_design)
+    within = f_hi >= 0
+    out = {key: v.copy() for key, v in top.items()}
+    u = hi.copy()
+    side = np.zeros(n)
+    plateau = np.zeros(n, dtype=bool)
+    active = np.flatnonzero(within & (f_hi > tol))
+    for _ in range(max_iter):
+        if active.size == 0:
+            break
+        a_lo, a_hi, fl, fh = lo[active], hi[active], f_lo[active], f_hi[active]
+        trial = a_hi - fh * (a_hi - a_lo) / np.where(fh != fl, fh - fl, 1.0)
+        trial = np.where(plateau[active], 0.5 * (a_lo + a_hi), np.clip(trial, a_lo, a_hi))
+        o = _march(trial, take(a, active), pi_D, pi_F, steps)
+        f = _search(o["area"] / area_design[active])
+        upper = f > 0
+        s = side[active]
+        fl = np.where(upper & (s == 1), fl / 2, fl)
+        fh = np.where(~upper & (s == -1), fh / 2, fh)
+        hi[active], f_hi[active] = np.where(upper, trial, a_hi), np.where(upper, f, fh)
+        lo[active], f_lo[active] = np.where(~upper, trial, a_lo), np.where(~upper, f, fl)
+        side[active] = np.where(upper, 1, -1)
+        plateau[active] = f <= -1.0
+        keep = upper | (np.abs(f) <= tol)          # the returned march is the last one on the feasible side
+        for key in out:
+            out[key][active] = np.where(keep, o[key], out[key][active])
+        u[active] = np.where(keep, trial, u[active])
+        narrow = (hi[active] - lo[active]) <= 1e-13 * hi[active]
+        active = active[~((np.abs(f) <= tol) | narrow)]
+    out["u"] = u
+    out["within"] = within
+    return out
 
 
 def evaluate(feed: Feed, p: FOParameters) -> Performance:
@@ -259,20 +401,34 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
     S_f, T, r = b(feed.salinity), b(feed.temperature), b(p.recovery)
     tf = _ro.temperature_factor(T)
     A, B = b(p.water_permeability) * tf, b(p.salt_permeability) * tf
-    S_din, m_din = b(p.draw_concentration), b(p.draw_flow_ratio)
+    m_din = b(p.draw_flow_ratio)
     draw_model = get_model("pitzer-nacl", "nacl")
     pi_D, pi_F = osmotic_table(draw_model), osmotic_table(feed.model)
     rho = _brine.density(np.zeros(size), T, feed.water)           # permeate (water) density
     steps = int(np.max(p.segments))
-    ex = _exchanger(S_f, T, r, S_din, m_din, A, B, b(p.structural_parameter), b(p.draw_diffusivity),
-                    b(p.mass_transfer_coefficient), pi_D, pi_F, rho, steps)
-    reached = np.isfinite(ex["area"]) & (ex["margin"] > 0)
+    a = dict(S_f=S_f, T=T, r=r, m_din=m_din, A=A, B=B, S_struct=b(p.structural_parameter),
+             D=b(p.draw_diffusivity), k=b(p.mass_transfer_coefficient), rho=rho)
+    if p.draw_concentration is None:
+        # design mode: the draw that gives the design average flux over the exchanger
+        ex = design_draw(a, r / (rho * b(p.flux)), pi_D, pi_F, steps)
+        S_din = ex["S_din"]
+        beyond = ~ex["within"] | (S_din > DRAW_LIMIT * (1 + 1e-12))
+    else:
+        S_din = b(p.draw_concentration)
+        ex = _rate(a, S_din, pi_D, pi_F, steps)
+        beyond = np.zeros(size, dtype=bool)
+    ex["S_dout"], ex["Js"] = ex["u"], ex["passed"]
+    ex["S_b"] = (S_f + ex["passed"]) / (1 - r)
+    reached = np.isfinite(ex["area"]) & (ex["margin"] > 0) & ~beyond
     S_dout = ex["S_dout"]
     m_dout = m_din + r
     reg = p.regenerator
     flags = [Flag("infeasible", "driving_force", "draw_concentration", "fo",
                   "FO: the driving force vanishes before the recovery is reached (the draw is not stronger than the "
-                  "feed or brine beside it)", ~reached)]
+                  "feed or brine beside it)", ~reached & ~beyond),
+             Flag("infeasible", "draw_solubility", "draw_concentration", "fo",
+                  "FO: the draw needed for the design flux (fo.flux) is beyond 6 mol/kg, the NaCl model's range and "
+                  "close to NaCl's solubility (6.1 mol/kg at 25 degC)", beyond)]
     flags += range_flags(draw_model, S_din, T, "FO draw", "draw")
     flags += pi_D.flags(S_din, T, "FO draw", draw_model.name)
     # the feed side of the active layer at the brine end, polarised at the mean flux (the flux solve holds interface
@@ -300,31 +456,43 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
         heat = np.zeros(size)
         heat_T = np.full(size, np.nan)
         product = perf.product_salinity
-        flags += [f.within("fo", "FO regenerator: ").with_mask(np.asarray(f.mask, dtype=bool).ravel())
-                  for f in perf.flags]
+        # the regenerator's own flags, where the exchanger worked (elsewhere it saw a stand-in feed)
+        flags += [f.within("fo", "FO regenerator: ").with_mask(
+                  np.broadcast_to(np.asarray(f.mask, dtype=bool), shape).ravel() & reached) for f in perf.flags]
         d = perf.details
         details.update({
             "regenerator_recovery": r_ro, "regenerator_feed_pressure": d["feed_pressure"].ravel(),
             "regenerator_ro_step": d["ro_step"].ravel(), "regenerator_membrane_area": d["membrane_area"].ravel(),
             "regenerator_electricity": perf.electricity.ravel(),
         })
-        makeup = ex["Js"] + r * product              # draw salt lost to the brine and the product, per kg/s of feed
+        makeup = np.maximum(ex["Js"] + r * product, 0.0)   # draw salt lost to the brine and the product [kg/s per kg/s]
     else:
         gor = b(reg.gain_output_ratio)
-        T_reg = b(reg.heat_temperature)
-        bpe = _brine.boiling_point_elevation(draw_model, S_din, T_reg)
         T_low = T + COLD_END_APPROACH                 # the cold end condenses against the feed
-        needed = T_low + gor * (bpe + b(reg.temperature_difference))
+        dT = b(reg.temperature_difference)
+        # the lowest heat temperature that drives the effects with the (designed) draw: its BPE taken at that
+        # temperature (a fixed point: the BPE changes by hundredths of a K)
+        needed = T_low + 40.0
+        for _ in range(5):
+            needed = T_low + gor * (_brine.boiling_point_elevation(draw_model, S_din, needed) + dT)
+        T_reg = needed if reg.heat_temperature is None else b(reg.heat_temperature)
+        bpe = _brine.boiling_point_elevation(draw_model, S_din, T_reg)
         flags.append(Flag("infeasible", "regenerator_temperature", "regenerator_heat_temperature", "fo",
                           "FO thermal regenerator: its heat temperature is too low for the effects it must drive "
-                          "(gain output ratio x (draw BPE + temperature difference) above the feed)", T_reg < needed))
+                          "(gain output ratio x (draw BPE + temperature difference) above the feed)",
+                          T_reg < needed * (1 - 1e-12)))
+        flags.append(Flag("simplification", "thermal_regenerator", "heat", "fo",
+                          "FO thermal regenerator: a screening model; its heat is the latent heat over a gain output "
+                          "ratio, taken at the lowest temperature that drives its effects unless "
+                          "fo.regenerator.heat_temperature is given, and checked against the site's heat",
+                          np.ones(size, dtype=bool)))
         h_fg = _water.latent_heat(0.5 * (T_reg + T_low))
         heat = h_fg / gor * rho                       # J per m^3 of product
         heat_T = T_reg
         electricity = b(p.circulation_electricity) + b(p.other_electricity)
         product = np.zeros(size)
         details.update({"regenerator_gor": gor, "regenerator_draw_bpe": bpe, "regenerator_heat": heat})
-        makeup = ex["Js"]
+        makeup = np.maximum(ex["Js"], 0.0)
     area = ex["area"] * b(feed.capacity) * rho / r     # [m^2] for the plant (area per kg/s of feed x feed flow)
     with np.errstate(invalid="ignore", divide="ignore"):
         avg_flux = r / (rho * ex["area"])
@@ -338,8 +506,8 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
             "brine_wall_salinity": wall,
             "draw_makeup": makeup / r * rho,
         })
-    nan = ~reached
-    flags = [f.with_mask(rs(f.mask)) for f in flags]
+    nan = ~reached | beyond
+    flags = [f.with_mask(rs(f.mask).astype(bool)) for f in flags]
     return Performance(
         electricity=rs(np.where(nan, np.nan, electricity)), heat=rs(np.where(nan, np.nan, heat)),
         heat_temperature=rs(heat_T), recovery=rs(r), product_salinity=rs(product),
@@ -348,7 +516,8 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
 
 
 DETAILS = {
-    "draw_in": Detail("draw salinity in (regenerated)", "g/kg"),
+    "draw_in": Detail("draw salinity in (regenerated; designed from fo.flux unless fo.draw_concentration is given)",
+                      "g/kg"),
     "draw_out": Detail("draw salinity out (diluted)", "g/kg"),
     "draw_in_molality": Detail("draw molality in", "mol/kg"),
     "draw_out_molality": Detail("draw molality out", "mol/kg"),
@@ -358,7 +527,7 @@ DETAILS = {
     "reverse_salt_flux": Detail("reverse salt flux", "g/m2/h"),
     "min_osmotic_margin": Detail("smallest osmotic-pressure margin along the exchanger", "bar"),
     "brine_wall_salinity": Detail("brine at the membrane, polarised at the mean flux", "g/kg"),
-    "draw_makeup": Detail("draw salt make-up", "kg/m3"),
+    "draw_makeup": Detail("draw salt make-up (0 where the draw gains salt from the feed)", "kg/m3"),
     "regenerator_recovery": Detail("regenerator recovery", "-"),
     "regenerator_feed_pressure": Detail("regenerator feed pressure", "bar"),
     "regenerator_ro_step": Detail("regenerator RO step electricity", "kWh/m3"),

@@ -51,7 +51,7 @@ import dataclasses
 from dataclasses import dataclass
 from typing import Any
 
-from ..spec import OPTIONAL, param
+from ..spec import OPTIONAL, efficiency, param
 from ..thermo import brine as _brine
 from ..thermo import water as _water
 from ..thermo.constants import T0_C
@@ -61,6 +61,7 @@ from ..thermo.model import range_flags
 from .base import Detail, Feed, Performance, Technology, case_shape, register
 
 PASSES = 12              # salinity fixed-point passes (converged well before)
+VENT_APPROACH = 3.0      # [K] the vent condenser's gas leaves this far above the seawater (common practice)
 
 
 @dataclass(frozen=True)
@@ -94,8 +95,27 @@ class MEDParameters:
     motive_steam_pressure: Any = param("quantity", "10 bar", "from memory: TVC motive steam 3-25 bar", "Pa",
                                   'a pressure such as "10 bar"', lo=0.0, lo_open=True)
     suction_effect: Any = param("count", OPTIONAL, "tool default: the last effect", expect="an effect number 1-16", lo=1, hi=16)
-    electricity: Any = param("quantity", "1.8 kWh/m^3", "common practice: MED pumping 1.5-2.5 kWh/m3", "J/m^3",
-                        'an energy per volume such as "1.8 kWh/m^3"', lo=0.0)
+    electricity: Any = param("quantity", OPTIONAL, "tool default: computed from the pumps and the vacuum system "
+                             "(give a figure to override)", "J/m^3", 'an energy per volume such as "1.8 kWh/m^3"',
+                             lo=0.0)
+    intake_head: Any = param("quantity", "3 bar", "common practice: seawater intake and cooling-water pumps lift "
+                             "through screens, the down condenser's tubes and the outfall, about 25-35 m of water",
+                             "Pa", 'a pressure rise such as "3 bar"', lo=0.0)
+    feed_head: Any = param("quantity", "2 bar", "common practice: evaporator feed through the preheaters to the spray "
+                           "nozzles, about 15-25 m of water", "Pa", 'a pressure rise such as "2 bar"', lo=0.0)
+    brine_head: Any = param("quantity", "1 bar", "common practice: brine from the last effect's vacuum to the "
+                            "atmosphere, plus this much to the outfall", "Pa", 'a pressure rise such as "1 bar"',
+                            lo=0.0)
+    distillate_head: Any = param("quantity", "2 bar", "common practice: distillate from the condenser's vacuum to the "
+                                 "atmosphere, plus this much to post-treatment and storage", "Pa",
+                                 'a pressure rise such as "2 bar"', lo=0.0)
+    pump_efficiency: Any = efficiency("0.72", "common practice: pump and motor together, low-head centrifugal "
+                                      "seawater pumps 65-80 %")
+    noncondensable_gas: Any = param("quantity", "30 mg/kg", "from memory: dissolved air (about 15-20 mg/kg) and "
+                                    "carbon dioxide released from bicarbonate in the evaporator feed", "kg/kg",
+                                    'a mass per kg of feed such as "30 mg/kg"', lo=0.0)
+    vacuum_efficiency: Any = efficiency("0.3", "common practice: liquid-ring vacuum pumps, 25-40 % of the isothermal "
+                                        "compression work", "an isothermal efficiency")
     capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
                               "value replaces the build-up", "day/m^3",
                               'a cost per capacity such as "1800 USD/(m^3/day)"', lo=0.0)
@@ -312,6 +332,61 @@ def _group(feed, p, idx, N, k_suc, tvc, size):
                 step=(T1 - T_N) / (N - 1), E=out["E"], Ra=np.broadcast_to(Ra, (n,)), bad=bad, T1=T1)
 
 
+#: molar mass of air [kg/mol], for the non-condensable gases the vacuum system removes
+M_AIR = 0.02896
+P_ATM = 101325.0
+
+
+def pump_electricity(intake, feed, brine, distillate, rho_sw, rho_b, rho_d, p_low, T_vent, p_vent_sat,
+                     intake_head, feed_head, brine_head, distillate_head, eta, gas, eta_vac):
+    """Electricity of an MED plant's pumps and vacuum system [J per kg of product], by part. Vectorised.
+
+    Each pump takes flow x head / efficiency: the seawater ``intake`` (all of it passes the down condenser, the
+    evaporator feed being drawn from its outlet) against ``intake_head``; the evaporator ``feed`` against
+    ``feed_head``; the ``brine`` from the last effect's pressure ``p_low`` up to the atmosphere plus
+    ``brine_head``; the ``distillate`` from ``p_low`` up to the atmosphere plus ``distillate_head``. The vacuum
+    system compresses the non-condensable gases released from the feed (``gas`` kg per kg of feed, taken as air),
+    saturated with vapour at the vent (its partial pressure ``p_vent_sat``), isothermally from ``p_low`` to the
+    atmosphere, at isothermal efficiency ``eta_vac``.
+
+    Parameters
+    ----------
+    intake, feed, brine, distillate : array [kg per kg of product]
+    rho_sw, rho_b, rho_d : array [kg/m^3] densities of seawater, brine and distillate
+    p_low : array [Pa] pressure of the last effect and the down condenser
+    T_vent : array [K] temperature at the vent
+    p_vent_sat : array [Pa] saturation pressure of water at the vent
+    intake_head, feed_head, brine_head, distillate_head : array [Pa]
+    eta, eta_vac : array [-] pump-and-motor and vacuum-system efficiencies
+    gas : array [kg/kg] non-condensable gases released per kg of evaporator feed
+
+    Returns
+    -------
+    dict of arrays [J/kg of product]: intake, feed, brine, distillate, vacuum
+
+    Examples
+    --------
+    Ten kg of seawater per kg of product against 3 bar at 72 %: 10/1025 x 3e5/0.72 = 4065 J/kg (1.13 kWh/m^3).
+
+    >>> e = pump_electricity(10.0, 2.4, 1.4, 1.0, 1025.0, 1050.0, 995.0, 8000.0, 303.15, 4200.0,
+    ...                      3e5, 2e5, 1e5, 2e5, 0.72, 30e-6, 0.3)
+    >>> round(float(e["intake"]))
+    4065
+    """
+    lift = np.maximum(P_ATM - p_low, 0.0)
+    n_gas = gas * feed / M_AIR                                      # [mol per kg of product]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        vapour = np.where(p_low > p_vent_sat, p_vent_sat / (p_low - p_vent_sat), np.inf)
+    R = 8.314462618
+    return {
+        "intake": intake / rho_sw * intake_head / eta,
+        "feed": feed / rho_sw * feed_head / eta,
+        "brine": brine / rho_b * (lift + brine_head) / eta,
+        "distillate": distillate / rho_d * (lift + distillate_head) / eta,
+        "vacuum": n_gas * (1 + vapour) * R * T_vent * np.log(P_ATM / np.minimum(p_low, P_ATM)) / eta_vac,
+    }
+
+
 def evaluate(feed: Feed, p: MEDParameters) -> Performance:
     """Multi-effect distillation for every case (see the module notes)."""
     shape = case_shape(feed, p)
@@ -352,7 +427,20 @@ def evaluate(feed: Feed, p: MEDParameters) -> Performance:
     per_m3 = rho_d / res["D"]                         # kg/s of evaporator feed per (m^3/s of distillate)
     heat = res["heat"] * per_m3                       # J per m^3 of distillate
     gor = res["D"] / res["M"]
-    elec = full(p.electricity)
+    # pumps and vacuum system, per kg of product (intake: all the seawater through the down condenser)
+    D = res["D"]
+    T_vent = full(feed.temperature) + VENT_APPROACH
+    rho_sw = _brine.density(full(feed.salinity), full(feed.temperature), "seawater")
+    rho_b = _brine.density(np.clip(np.nan_to_num(res["S_b"]), 0.0, 0.12), np.nan_to_num(res["T_b"], nan=300.0),
+                           "seawater")
+    p_low = _water.saturation_pressure(np.nan_to_num(res["T_d"], nan=300.0))
+    parts = pump_electricity(res["M_cw"] / D, 1.0 / D, (1.0 - D) / D, np.ones(size), rho_sw, rho_b, rho_d, p_low,
+                             T_vent, _water.saturation_pressure(T_vent), full(p.intake_head), full(p.feed_head),
+                             full(p.brine_head), full(p.distillate_head), full(p.pump_efficiency),
+                             full(p.noncondensable_gas), full(p.vacuum_efficiency))
+    parts = {key: v * rho_d for key, v in parts.items()}       # J per m^3 of product
+    pumps = sum(parts.values())
+    elec = pumps if p.electricity is None else full(p.electricity)
     details = {
         "gor": gor, "heating_steam_temperature": res["T_s"], "heat_supply_temperature": res["T_heat"],
         "top_brine_temperature": full(p.top_brine_temperature), "last_brine_temperature": res["T_b"],
@@ -361,6 +449,9 @@ def evaluate(feed: Feed, p: MEDParameters) -> Performance:
         "cooling_water_per_product": res["M_cw"] / res["D"], "cooling_water_outlet_temperature": res["T_cw"],
         "product_temperature": res["T_d"], "steam_per_product": res["M"] / res["D"],
         "specific_heat": res["heat"] / res["D"],
+        "intake_pump_electricity": parts["intake"], "feed_pump_electricity": parts["feed"],
+        "brine_pump_electricity": parts["brine"], "distillate_pump_electricity": parts["distillate"],
+        "vacuum_electricity": parts["vacuum"], "pump_electricity": pumps,
     }
     if tvc:
         details["entrainment_ratio"] = res["Ra"]
@@ -387,6 +478,13 @@ DETAILS = {
     "product_temperature": Detail("product temperature", "degC"),
     "steam_per_product": Detail("steam per kg of product", "kg/kg"),
     "specific_heat": Detail("heat per kg of product", "kJ/kg"),
+    "intake_pump_electricity": Detail("seawater intake and cooling-water pumps", "kWh/m3"),
+    "feed_pump_electricity": Detail("evaporator feed pumps", "kWh/m3"),
+    "brine_pump_electricity": Detail("brine pumps", "kWh/m3"),
+    "distillate_pump_electricity": Detail("distillate pumps", "kWh/m3"),
+    "vacuum_electricity": Detail("vacuum system", "kWh/m3"),
+    "pump_electricity": Detail("pumps and vacuum system (the electricity unless med.electricity is given)",
+                               "kWh/m3"),
     "entrainment_ratio": Detail("ejector entrainment ratio (motive per entrained)", "-"),
     "entrained_vapour_per_product": Detail("entrained vapour per kg of product", "kg/kg"),
 }

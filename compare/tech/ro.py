@@ -66,6 +66,9 @@ BAR = 1e5
 TEMPERATURE_EXPONENT = 2640.0  # [K], membrane temperature correction (from memory, supplier form)
 P_SEARCH_MAX = 400e5           # [Pa] upper end of the feed-pressure search
 S_CAP = 0.34                   # [kg/kg] wall salinities are capped here (inside the osmotic table) during the search
+CORRECTOR_TOL = 1e-3           # march: a step's end is settled when it moves by less than this share of the step
+CORRECTOR_PASSES = 60          # march: at most this many corrector passes per step
+GRADING = 3.0                  # march: permeate steps shrink towards the outlet as (1 - t)^GRADING
 
 
 @dataclass(frozen=True)
@@ -183,6 +186,90 @@ def _log_mean_inverse(J0, J1):
     return np.where((J1 <= 0) | (J0 <= 0), np.inf, lm)
 
 
+def _step_salt(dm, J0, J1, Sp0, Sp1, B):
+    """Salt passed with the permeate dm of one step [kg per kg/s of feed]: the local permeate S_p = B S_m / (J + B)
+    integrated over the step with J linear in the permeate, (mean of B S_m) x dm x log-mean of 1/(J + B). Unlike the
+    trapezoid on S_p it stays right where the flux collapses at the restriction (S_p -> S_m over a short stretch)."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        BSm = 0.5 * (Sp0 * (J0 + B) + Sp1 * (J1 + B))             # S_p (J + B) = B S_m at the two ends
+        out = dm * BSm * _log_mean_inverse(J0 + B, J1 + B)
+    return np.where(B > 0, out, 0.0)
+
+
+def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressure, x_end):
+    """Corrector of one march step (see :func:`_march`): the step's end x1 with the flux J1 and permeate Sp1 at the
+    pressure where it lies. ``x1``, ``J1``, ``Sp1`` come from the predictor's trial at ``x_pred``."""
+    x1, J1, Sp1 = x1.copy(), J1.copy(), Sp1.copy()
+    n = x.size
+    lo, F_lo = x.copy(), np.full(n, np.nan)
+    hi, F_hi = np.full(n, np.inf), np.full(n, np.nan)
+    zero = np.full(n, np.inf)
+    trial = x_pred.copy()
+    span0 = np.maximum(x_pred - x, 1e-300)          # the predicted step, the scale of the tolerance
+    # settled at once where the pressure at the predictor's end and at the end it reached differ too little to
+    # move the flux by the tolerance (no pressure drop, or a good prediction)
+    with np.errstate(invalid="ignore"):
+        dP = np.abs(pressure(np.minimum(np.where(np.isfinite(x1), x1, x_end), x_end))[0]
+                    - pressure(np.minimum(x_pred, x_end))[0])
+        moving = np.flatnonzero(~(np.isfinite(x1) & (c["A"] * dP <= CORRECTOR_TOL * J1))
+                                & np.isfinite(x) & (J0 > 0))      # a march that has failed stays failed
+    if moving.size == 0:
+        return x1, J1, Sp1
+    for _ in range(CORRECTOR_PASSES + 1):
+        xm, fm = trial[moving], x1[moving]
+        span = np.where(np.isfinite(fm), fm, xm) - x[moving]
+        F = fm - xm
+        fin = np.isfinite(fm)
+        pos, neg = fin & (F > 0), fin & (F < 0)
+        up = pos & (xm >= lo[moving])
+        prev_x, prev_F = lo[moving], F_lo[moving]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            secant = xm - F * (xm - prev_x) / (F - prev_F)
+        # settled: F is small and, below the fixed point, the secant puts the fixed point within the tolerance too
+        # (near the restriction F can creep along small but positive, the ghost of a fixed point that is gone)
+        far = pos & np.isfinite(prev_F) & (F < prev_F) & ~(np.abs(secant - xm) <= CORRECTOR_TOL * span)
+        settled = fin & (np.abs(F) <= CORRECTOR_TOL * span) & ~far
+        lo[moving] = np.where(up, xm, lo[moving])
+        F_lo[moving] = np.where(up, F, F_lo[moving])
+        down = neg & (xm <= hi[moving])
+        hi[moving] = np.where(down, xm, hi[moving])
+        F_hi[moving] = np.where(down, F, F_hi[moving])
+        zero[moving] = np.where(~fin, np.minimum(zero[moving], xm), zero[moving])
+        # next trial
+        l, h, z = lo[moving], hi[moving], zero[moving]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            falsi = l - F_lo[moving] * (h - l) / (F_hi[moving] - F_lo[moving])
+        bracketed = np.isfinite(h) & np.isfinite(F_lo[moving]) & np.isfinite(falsi)
+        # below the fixed point: the secant through the last two lower points where it reaches further than the
+        # fixed-point step (F falls slowly towards a fixed point at the restriction)
+        ahead = up & np.isfinite(prev_F) & (F < prev_F) & np.isfinite(secant) & (secant > fm)
+        step = np.where(pos, np.where(ahead, secant, fm), 0.5 * (l + np.minimum(z, h)))
+        step = np.where(step >= z, 0.5 * (l + z), step)
+        nxt = np.where(bracketed, np.clip(falsi, l, h), step)
+        # no fixed point before the flux vanishes: the bracket [lo, zero] has closed
+        gone = ~settled & ~np.isfinite(h) & np.isfinite(z) & (z - l <= CORRECTOR_TOL * span0[moving])
+        settled = settled | gone
+        x1[moving] = np.where(gone, np.inf, x1[moving])
+        moving = moving[~settled]
+        if moving.size == 0:
+            break
+        trial[moving] = nxt[~settled]
+        cm = take(c, moving)
+        xt = trial[moving]
+        P1m, _ = pressure(np.minimum(xt, x_end), moving)
+        S_b1m = (salt[moving] - _step_salt(dm[moving], J0[moving], J1[moving], Sp0[moving], Sp1[moving],
+                                           cm["B"])) / (Q[moving] - dm[moving])
+        J1m, Sp1m = local_flux(P1m, S_b1m, cm["T"], cm["A"], cm["B"], cm["k"], pi, np.maximum(J1[moving], 1e-13))
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            x1[moving] = x[moving] + dm[moving] * scale[moving] * _log_mean_inverse(J0[moving], J1m)
+        J1[moving], Sp1[moving] = J1m, Sp1m
+    # unsettled after every pass (a slow approach to the point where the flux vanishes): where that point is known
+    # and no fixed point was seen above the last lower point, the step cannot be completed
+    if moving.size:
+        x1[moving] = np.where(np.isfinite(zero[moving]) & ~np.isfinite(hi[moving]), np.inf, x1[moving])
+    return x1, J1, Sp1
+
+
 def _march(P_feed, c, shares, n_seg, full=False):
     """March the vessel train from the membrane feed to recovery ``c["r"]`` in equal steps of permeate, at feed
     pressure P_feed (gauge) [Pa], per kg/s of membrane feed.
@@ -199,32 +286,50 @@ def _march(P_feed, c, shares, n_seg, full=False):
     boost = c["boost"]
     scale = c["v_p"] / c["area_per_feed"]          # area fraction per kg of permeate at unit flux
 
-    def pressure(x):
+    def pressure(x, idx=slice(None)):
         s = np.clip(np.searchsorted(cum, x, side="right") - 1, 0, n_st - 1)
         frac = np.clip((x - cum[s]) / share[s], 0.0, 1.0)
-        return P_feed - drop_stage * (s + frac) + boost * s, s
+        return P_feed[idx] - drop_stage[idx] * (s + frac) + boost[idx] * s, s
 
     steps = n_seg * n_st
-    dm = c["r"] / steps
+    # permeate steps graded towards the outlet, where the flux may collapse (the restriction): the march's share of
+    # the recovery after step j is 1 - (1 - j/steps)^GRADING
+    edges = 1.0 - (1.0 - np.arange(steps + 1) / steps) ** GRADING
     Q = np.ones_like(P_feed)
     salt = c["S_in"].copy()
     x = np.zeros_like(P_feed)
     J0, Sp0 = local_flux(P_feed, salt, T, A, B, k, pi, iterations=8)
+    trend = np.zeros_like(P_feed)                 # dJ/dm of the last step (for the predictor)
     if full:
         xs, ms, cs = [x], [np.zeros_like(P_feed)], [np.zeros_like(P_feed)]
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         for j in range(steps):
-            x_pred = np.minimum(x + dm * scale / np.maximum(J0, 1e-300), cum[-1])
+            dm = c["r"] * (edges[j + 1] - edges[j])
+            # predictor: the end of the step placed with the flux extrapolated from the last step's trend
+            J_guess = np.maximum(J0 + trend * dm, 0.5 * J0)
+            x_pred = np.minimum(x + dm * scale * _log_mean_inverse(J0, J_guess), cum[-1])
             P1, _ = pressure(x_pred)
             S_b1 = (salt - dm * Sp0) / (Q - dm)
             J1, Sp1 = local_flux(P1, S_b1, T, A, B, k, pi, J0)
-            x = x + dm * scale * _log_mean_inverse(J0, J1)
+            x1 = x + dm * scale * _log_mean_inverse(J0, J1)
+            # corrector: the flux at the end is that of the pressure where the step really ends (further along
+            # where the flux collapses near the restriction): x1 = f(x1), f(x) = x0 + dm scale LM(J0, J1(x)), an
+            # increasing map whose least fixed point is wanted. F = f(x) - x is positive below it; where the flux
+            # at x is zero, f is infinite. Each case keeps a lower point (F > 0), an upper point (F < 0) once one
+            # is seen, and the nearest point of zero flux; trials are false position inside a bracket, else a
+            # fixed-point step (halfway to the zero-flux point if it would pass it); no fixed point before the flux
+            # vanishes means the step cannot be completed (x1 = inf). Only the cases still moving are solved.
+            x1, J1, Sp1 = _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressure,
+                                   cum[-1])
+            with np.errstate(invalid="ignore"):
+                trend = np.where(np.isfinite(x1), np.minimum((J1 - J0) / dm, 0.0), 0.0)
+            x = x1
             Q = Q - dm
-            salt = salt - dm * 0.5 * (Sp0 + Sp1)
+            salt = salt - _step_salt(dm, J0, J1, Sp0, Sp1, B)
             J0, Sp0 = J1, Sp1
             if full:
                 xs.append(x)
-                ms.append(np.full_like(x, dm * (j + 1)))
+                ms.append(c["r"] * edges[j + 1])
                 cs.append(c["S_in"] - salt)
     if not full:
         return x
@@ -315,6 +420,23 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
     return P, reachable
 
 
+def design_arrays(feed: Feed, p: ROParameters) -> dict:
+    """The per-case arrays (flattened to the case shape) that :func:`_march` and :func:`solve_feed_pressure` take:
+    temperature-corrected permeabilities, the design's geometry and the membrane feed after exchanger mixing."""
+    shape = case_shape(feed, p)
+    b = lambda x: np.broadcast_to(np.asarray(x, dtype=float), shape).ravel().copy()  # noqa: E731
+    S_f, T, r = b(feed.salinity), b(feed.temperature), b(p.recovery)
+    tf = temperature_factor(T)
+    mix = b(p.energy_recovery_mixing) if p.energy_recovery == "isobaric" else np.zeros_like(S_f)
+    rho_p = _brine.density(np.zeros_like(S_f), T, feed.water)
+    c = dict(T=T, A=b(p.water_permeability) * tf, B=b(p.salt_permeability) * tf,
+             k=b(p.mass_transfer_coefficient), J_avg=b(p.flux), n_elem=b(p.elements_per_vessel),
+             dp_elem=b(p.pressure_drop_per_element), boost=b(p.booster_pressure), r=r, v_p=1.0 / rho_p,
+             S_in=S_f * (1 - mix * (1 - r)) / (1 - mix), pi=osmotic_table(feed.model))
+    c["area_per_feed"] = r * c["v_p"] / c["J_avg"]        # design area [m^2 per kg/s of membrane feed]
+    return c
+
+
 def evaluate(feed: Feed, p: ROParameters) -> Performance:
     """Reverse osmosis in design mode for every case (see the module notes)."""
     shape = case_shape(feed, p)
@@ -325,14 +447,8 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
     erd = p.energy_recovery
     S_f, T = b(feed.salinity), b(feed.temperature)
     r = b(p.recovery)
-    tf = temperature_factor(T)
-    mix = b(p.energy_recovery_mixing) if erd == "isobaric" else np.zeros_like(S_f)
-    rho_p = _brine.density(np.zeros_like(S_f), T, feed.water)
-    c = dict(T=T, A=b(p.water_permeability) * tf, B=b(p.salt_permeability) * tf,
-             k=b(p.mass_transfer_coefficient), J_avg=b(p.flux), n_elem=b(p.elements_per_vessel),
-             dp_elem=b(p.pressure_drop_per_element), boost=b(p.booster_pressure), r=r, v_p=1.0 / rho_p,
-             S_in=S_f * (1 - mix * (1 - r)) / (1 - mix), pi=osmotic_table(feed.model))
-    c["area_per_feed"] = r * c["v_p"] / c["J_avg"]        # design area [m^2 per kg/s of membrane feed]
+    c = design_arrays(feed, p)
+    rho_p = 1.0 / c["v_p"]
     n = S_f.size
     P, reachable = np.full(n, np.nan), np.zeros(n, dtype=bool)
     prof = {key: np.full(n, np.nan) for key in ("x", "perm_salt", "S_b", "P_b", "lead", "J_out", "Sp_out")}

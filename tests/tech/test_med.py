@@ -195,3 +195,34 @@ def test_second_law_efficiency_below_ro(tvc):
     eff_med, eff_ro = recs["med"]["second_law_efficiency"], recs["ro"]["second_law_efficiency"]
     assert 0 < eff_med < eff_ro < 1
     assert 0.02 < eff_med < 0.15 and 0.15 < eff_ro < 0.5     # memory, loose
+
+
+def test_electricity_from_pumps_in_practice_range_and_with_cooling_water():
+    # practice: MED electricity 1.5-2.5 kWh/m3 (pumps and vacuum system) at the default design (8 effects)
+    base = med.evaluate(feed([0.035], T=298.15), params())
+    e = base.electricity[0] / 3.6e6
+    assert 1.5 <= e <= 2.5
+    d = base.details
+    parts = ("intake_pump_electricity", "feed_pump_electricity", "brine_pump_electricity",
+             "distillate_pump_electricity", "vacuum_electricity")
+    assert sum(d[k][0] for k in parts) == pytest.approx(base.electricity[0], rel=1e-12)
+    assert all(d[k][0] > 0 for k in parts)
+    # identity: the intake pumps move all the seawater through the down condenser: flow x head / efficiency
+    # densities: library, TEOS-10 (gsw) for the seawater at 25 degC, IAPWS-95 (CoolProp) for the product
+    import gsw
+    from CoolProp.CoolProp import PropsSI
+    rho_sw = gsw.rho_t_exact(35.0, 25.0, 0.0)
+    rho_d = PropsSI("D", "T", float(d["product_temperature"][0]), "P", 101325.0, "Water")
+    expected = d["cooling_water_per_product"][0] / rho_sw * 3e5 / 0.72 * rho_d
+    assert d["intake_pump_electricity"][0] == pytest.approx(expected, rel=1e-3)
+    # fewer effects condense more vapour in the down condenser: more cooling water, more electricity; it also rises
+    # with the seawater temperature (a smaller rise across the condenser); 4 and 12 effects differ
+    n_eff = np.array([4, 6, 8, 10, 12, 8, 8])
+    T = np.array([298.15] * 5 + [288.15, 303.15])
+    perf = med.evaluate(feed(np.full(7, 0.035), T=T), params(effects=n_eff))
+    cw = perf.details["cooling_water_per_product"]
+    assert np.array_equal(np.argsort(perf.electricity), np.argsort(cw))
+    assert perf.electricity[0] > 1.5 * perf.electricity[4]
+    # a given figure overrides the pumps
+    fixed = med.evaluate(feed([0.035]), params(electricity="1.8 kWh/m^3"))
+    assert fixed.electricity[0] == pytest.approx(1.8 * 3.6e6)
