@@ -130,12 +130,6 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
                    tuple(names), nan(r_max), rs(above), rs(in_table | ~ok))
 
 
-def recovery_for_limit(max_recovery, feed_salinity, product_salinity):
-    """The brine salinity [kg/kg] that a design at ``max_recovery`` leaves (salt balance)."""
-    r = np.asarray(max_recovery, dtype=float)
-    return (np.asarray(feed_salinity, dtype=float) - r * np.asarray(product_salinity, dtype=float)) / (1 - r)
-
-
 def site_flows(capacity, recovery, product_density, feed_density, brine_density, intake_per_product=None):
     """Intake and brine flows of a plant [m^3/s].
 
@@ -223,5 +217,5 @@ def per_case(sc: Scaling) -> Scaling:
                    np.asarray(sc.in_table).all(axis=1))
 
 
-__all__ = ["Scaling", "Chemistry", "scaling", "assess", "per_case", "site_flows", "recovery_for_limit", "SILICA",
+__all__ = ["Scaling", "Chemistry", "scaling", "assess", "per_case", "site_flows", "SILICA",
            "WALL", "HOTTEST", "BRINE_TEMPERATURE", "INTAKE"]
