@@ -27,6 +27,10 @@ import numpy as np
 
 from .thermo.scaling import SILICA, Limit, ScalingTable
 
+#: a recovery counts as above the limit when it exceeds it by more than this [-] (0.005 percentage points): designs
+#: at the limit converge to 1e-6 where the technology's own solution is that smooth, FO's to a few 1e-6
+ABOVE_TOLERANCE = 5e-5
+
 WALL = "wall_salinity"
 HOTTEST = "hottest_brine_temperature"
 BRINE_TEMPERATURE = "brine_temperature"
@@ -122,7 +126,7 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
     with np.errstate(invalid="ignore", divide="ignore"):
         r_max = np.clip((S_bmax - S_f) / (S_bmax - S_p), 0.0, 1.0)
     r = b(recovery)
-    above = ok & (r > r_max + 1e-6)
+    above = ok & (r > r_max + ABOVE_TOLERANCE)
     rs = lambda x: np.asarray(x).reshape(shape)  # noqa: E731
     nan = lambda x: rs(np.where(ok, x, np.nan))  # noqa: E731
     return Scaling({m: nan(v) for m, v in si.items()}, nan(silica), nan(cf), rs(worst_T),

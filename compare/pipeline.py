@@ -159,8 +159,8 @@ def _chemistry(scenario: Scenario, get) -> Chemistry | None:
 
 def _design_at_limit(tech, feed: Feed, params, keys: dict, chem: Chemistry, shape):
     """The technology designed at its scaling limit: its recovery (or brine salinity) set to the highest that keeps
-    every mineral under its limit, found by repeating the design until the limit it gives stops moving (the wall's
-    polarisation depends on the design). One recovery per case: the worst period's."""
+    every mineral under its limit, found by repeating the design (secant steps) until the limit it gives stops moving
+    (the wall's polarisation depends on the design), to 1e-6. One recovery per case: the worst period's."""
     from .thermo.scaling import Limit
 
     S_f = np.broadcast_to(np.asarray(feed.salinity, dtype=float), shape)
@@ -170,7 +170,8 @@ def _design_at_limit(tech, feed: Feed, params, keys: dict, chem: Chemistry, shap
     first = scaling(chem.table, limits, S_f, 2 * S_f, S_t, 0.5, [np.broadcast_to(feed.temperature, shape)])
     r = np.min(np.clip(np.nan_to_num(first.max_recovery, nan=0.5), 0.01, 0.99), axis=1, keepdims=True)
     S_p = np.zeros(shape)
-    for _ in range(10):
+    r_prev = g_prev = None
+    for _ in range(12):
         with np.errstate(invalid="ignore", divide="ignore"):
             brine = (S_f - r * S_p) / (1 - r)
         p = dataclasses.replace(params, **{k: (r if role == "recovery" else brine) for k, role in keys.items()})
@@ -179,9 +180,19 @@ def _design_at_limit(tech, feed: Feed, params, keys: dict, chem: Chemistry, shap
         r_new = np.min(np.clip(np.where(np.isfinite(sc.max_recovery), sc.max_recovery, r), 0.01, 0.99), axis=1,
                        keepdims=True)
         S_p = np.nan_to_num(np.broadcast_to(np.asarray(perf.product_salinity, dtype=float), shape))
-        if np.max(np.abs(r_new - r)) < 1e-6:
+        g = r_new - r
+        if np.max(np.abs(g)) < 1e-6:
             break
-        r = r_new
+        # secant on g(r) = limit(r) - r once two designs are known (a plain repeat converges slowly where the
+        # polarisation moves with the recovery, as in FO); the repeat where the secant is undefined
+        step = r_new
+        if g_prev is not None:
+            d = g - g_prev
+            with np.errstate(invalid="ignore", divide="ignore"):
+                sec = r - g * (r - r_prev) / d
+            step = np.where(np.isfinite(sec) & (np.abs(d) > 1e-12), sec, r_new)
+        r_prev, g_prev = r, g
+        r = np.clip(step, 0.01, 0.99)
     return perf, p
 
 

@@ -190,7 +190,7 @@ def test_a_sweep_of_1000_cases_builds_one_phreeqc_table(capsys, tmp_path):
     rows = pd.read_csv(io.StringIO(capsys.readouterr().out))
     assert len(rows) == 1000
     above = rows["scaling_above_limit"].astype(bool)
-    assert (above == (rows["recovery"] > rows["scaling_max_recovery"] + 1e-6)).all()
+    assert (above == (rows["recovery"] > rows["scaling_max_recovery"] + 5e-5)).all()
     assert set(rows.loc[above, "feasible"]) == {False}
     # designs at the limit vary with temperature, case by case
     assert main(["sweep", SALTBUSH, "--no-save", "--format", "csv", *fast, "--set", "ro.recovery=max",
