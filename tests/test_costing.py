@@ -180,3 +180,21 @@ def test_scaled_cost_follows_its_exponent():
     assert costing.scaled(600.0, 2e6, 1e6, 0.7) / costing.scaled(600.0, 1e6, 1e6, 0.7) == pytest.approx(2 ** 0.7)
     assert costing.scaled(600.0, 0.0, 1e6, 0.7) == 0.0
     np.testing.assert_allclose(costing.scaled(np.array([1.0, 2.0]), np.array([1.0, 4.0]), 1.0, 0.5), [1.0, 4.0])
+
+
+def test_report_and_table_show_the_build_up_by_cause():
+    from compare.present.records import payload
+    from compare.present.report import context, render
+    from compare.present.tables import markdown_compare
+
+    p = payload(pipeline.evaluate(site(only=("ro",))))
+    md = markdown_compare(p)
+    # each cause is a row of its own, its items indented under it
+    assert "## Capital by item [USD]" in md and "| membranes: |  |\n|   membrane elements |" in md
+    assert "| total capital [USD] |" in md and "| operation and maintenance per year (energy excluded) [USD/yr] |" in md
+    ctx = context(p, {})
+    capital = ctx["cost_tables"][0]
+    causes = [row["label"] for row in capital["rows"] if row["cause"]]
+    assert causes[:2] == ["membranes", "pressure"] and "water in and out" in causes
+    html = render(p, {})
+    assert "What the cost is made of" in html and "energy-recovery devices" in html

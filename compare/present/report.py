@@ -17,7 +17,8 @@ from pathlib import Path
 
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
-from .tables import fmt_number
+from .fields import COST_LINES
+from .tables import build_up_rows, fmt_number
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -73,13 +74,17 @@ FIELDS = (
     ("Emissions", "CO2 per m3", "kg/m3", "emissions_kg_per_m3", 3),
     ("Emissions", "CO2 per year", "t/yr", "annual_emissions_t", 3),
     ("Cost", "levelized cost of water", "{currency}/m3", "levelized_cost_per_m3", 3),
-    ("Cost", "of which capital", "{currency}/m3", lambda r: _cost(r, "capital"), 3),
-    ("Cost", "of which fixed O&M", "{currency}/m3", lambda r: _cost(r, "fixed_om"), 3),
-    ("Cost", "of which electricity", "{currency}/m3", lambda r: _cost(r, "electricity"), 3),
-    ("Cost", "of which heat", "{currency}/m3", lambda r: _cost(r, "heat"), 3),
+    *(("Cost", f"of which {_line.label}", "{currency}/m3", (lambda r, _n=_line.name: _cost(r, _n)), 3)
+      for _line in COST_LINES),
+    ("Cost", "total capital", "{currency}", lambda r: _detail(r, "capital"), 3),
+    ("Cost", "capital per m3/day of capacity", "{currency}/(m3/day)", lambda r: _detail(r, "capital_per_m3_day"), 3),
+    ("Cost", "operation and maintenance per year (energy apart)", "{currency}/yr",
+     lambda r: _detail(r, "annual_om"), 3),
 )
-COST_PARTS = (("capital", "capital", PALETTE[0]), ("fixed_om", "fixed O&M", PALETTE[4]),
-              ("electricity", "electricity", PALETTE[1]), ("heat", "heat", PALETTE[3]))
+#: the levelised cost's lines in the cost figure: capital and the O&M causes in cool colours, energy in warm ones
+_LINE_COLOURS = {"capital": PALETTE[0], "fixed_om": PALETTE[4], "labour": PALETTE[5], "membranes": PALETTE[2],
+                 "chemicals": PALETTE[6], "brine_disposal": PALETTE[7], "electricity": PALETTE[1], "heat": PALETTE[3]}
+COST_PARTS = tuple((f.name, f.label, _LINE_COLOURS.get(f.name, PALETTE[7])) for f in COST_LINES)
 SITE_KEYS = ("site.capacity", "site.availability", "feed.water", "feed.salinity", "feed.temperature", "feed.model",
              "product.salinity", "energy.electricity_price", "energy.electricity_emissions", "energy.heat_price",
              "energy.heat_emissions", "energy.heat_temperature", "energy.heat_to_work", "finance.currency",
@@ -105,6 +110,30 @@ def _cost(r, part):
     if not r["feasible"]:
         return None
     return _num(((r.get("details") or {}).get("cost_breakdown_per_m3") or {}).get(part))
+
+
+def _detail(r, name):
+    if not r["feasible"]:
+        return None
+    return _num((r.get("details") or {}).get(name))
+
+
+def cost_build_up(recs: list[dict]) -> list[dict]:
+    """The capital by item and the O&M by cause, technologies as columns, each item under its cause."""
+    from ..costing import CAPITAL_ITEMS, OM_ITEMS
+    currency = recs[0]["currency"] if recs else ""
+    out = []
+    for key, items, title, unit, digits in (
+            ("capital_breakdown", CAPITAL_ITEMS, "Capital by item", currency, 4),
+            ("om_breakdown_per_m3", OM_ITEMS, "Operation and maintenance by cause, per m3 of product",
+             f"{currency}/m3", 3)):
+        rows = build_up_rows(recs, key, items)
+        if rows:
+            out.append({"title": title, "unit": unit,
+                        "rows": [{"label": row[0].strip().rstrip(":"), "cause": not row[0].startswith(" "),
+                                  "values": ["" if v == "" else fmt(v, digits) for v in row[1:]]}
+                                 for row in rows]})
+    return out
 
 
 def _get(r, field):
@@ -467,6 +496,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         "designs": designs,
         "energy_svg": energy_figure(payload) if recs else "",
         "cost_svg": cost_figure(payload) if recs else "",
+        "cost_tables": cost_build_up(recs),
         "flag_groups": flag_groups,
         "claims": claims,
         "caution": CAUTION,
