@@ -374,18 +374,14 @@ def judge(source, claim: dict, overrides=()) -> dict:
 
 def load_claims(path) -> list[dict]:
     """The ``[claim]`` or ``[[claim]]`` tables of a TOML file (``--claim-file``), parsed as a scenario's are."""
-    import tomllib
-
     from .errors import InputErrors
-    from .scenario import SITE_SECTIONS, parse_claims, sections
+    from .scenario import SITE_SECTIONS, parse_claims, parse_toml, read_input_file, sections, text_errors
 
     label = str(path)
-    try:
-        data = tomllib.loads(Path(path).read_text(encoding="utf-8"))
-    except OSError as exc:
-        raise InputError(f"{label}: cannot read the claim file: {exc.strerror}") from None
-    except (UnicodeDecodeError, tomllib.TOMLDecodeError) as exc:
-        raise InputError(f"{label}: expected a UTF-8 TOML file of [claim] tables, got: {exc}") from None
+    data = parse_toml(read_input_file(path, "claim file"), label)
+    errors = text_errors(data, label)
+    if errors:
+        raise InputErrors(errors)
     errors = [f"{label}: {k}: unknown key (a claim file holds [claim] or [[claim]] tables)" for k in data
               if k != "claim"]
     if "claim" not in data:

@@ -18,3 +18,27 @@ class InputErrors(InputError):
     def __init__(self, messages: list[str]):
         self.messages = list(messages)
         super().__init__("\n".join(self.messages))
+
+
+def printable(text) -> str:
+    """``text`` with every control or format character (escape sequences, line breaks, direction overrides) written
+    as a visible escape (``\\x1b``, ``\\n``, ``\\u202e``), so that text from input can neither drive a terminal nor
+    forge a second line.
+
+    Examples
+    --------
+    >>> printable("a\\nerror: b\\x1b[2J")
+    'a\\\\nerror: b\\\\x1b[2J'
+    """
+    import unicodedata
+
+    text = str(text)
+    if text.isprintable():
+        return text
+    out = []
+    for c in text:
+        if unicodedata.category(c) in ("Cc", "Cf", "Zl", "Zp", "Cs", "Co", "Cn"):
+            out.append(c.encode("unicode_escape").decode("ascii"))
+        else:
+            out.append(c)
+    return "".join(out)

@@ -120,7 +120,8 @@ from .costing import SITE_SECTIONS as _COST_SECTIONS  # noqa: E402
 SITE_SECTIONS.update(_COST_SECTIONS)
 
 _GSD = Spec("fraction", None, "", expect="a geometric standard deviation above 1, e.g. 1.2", lo=1.0, lo_open=True)
-_TEMPERATURE_SPREAD = Spec("quantity", None, "", "K", 'a temperature difference such as "2 K"', lo=0.0)
+_TEMPERATURE_SPREAD = Spec("quantity", None, "", "K", 'a temperature difference above zero such as "2 K"', lo=0.0,
+                           lo_open=True)
 DISTRIBUTIONS = {"triangular": ("low", "mode", "high"), "uniform": ("low", "high"), "normal": ("mean", "sd"),
                  "lognormal": ("median", "gsd")}
 
@@ -192,7 +193,9 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
 
     Raises :class:`InputErrors` with every problem found, each line prefixed with ``label``.
     """
-    errors: list[str] = []
+    errors: list[str] = text_errors(data, label)
+    if errors:
+        raise InputErrors(errors)
     specs = sections()
     data = {k: (dict(v) if isinstance(v, dict) else v) for k, v in data.items()}
     # a sub-table such as [fo.regenerator] becomes dotted keys of its section ("regenerator.max_pressure") where the
@@ -313,7 +316,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
     if not errors:
         errors += reach_errors(values, lambda dotted: (f"--set {dotted}" if sources.get(dotted) == "--set"
                                                        else f"{label}: {dotted}"), texts)
-    uncertainty = _uncertainty(uncertainty_raw, specs, label, errors, ctx)
+    uncertainty = _uncertainty(uncertainty_raw, specs, label, errors, ctx, data)
     correlation = {}
     if correlation_raw is not None:
         from .uncertainty import parse_correlation
@@ -525,7 +528,12 @@ def reach_errors(values: dict, where, texts: dict, varied: dict | None = None) -
     return out
 
 
-def _uncertainty(raw, specs, label, errors, ctx) -> dict:
+def _raw_of(data: dict, sec: str, key: str):
+    body = data.get(sec)
+    return body.get(key) if isinstance(body, dict) else None
+
+
+def _uncertainty(raw, specs, label, errors, ctx, raw_values=None) -> dict:
     if not isinstance(raw, dict):
         errors.append(f"{label}: uncertainty: expected a table [uncertainty], got {raw!r}")
         return {}
@@ -538,6 +546,14 @@ def _uncertainty(raw, specs, label, errors, ctx) -> dict:
             continue
         sec, key = dotted.split(".", 1)
         spec = specs[sec][key]
+        if spec.kind in ("choice", "flag", "table", "text"):
+            errors.append(f"{where}: expected a numeric key, got {dotted!r} (a {spec.kind} cannot be sampled)")
+            continue
+        given = _raw_of(raw_values or {}, sec, key)
+        if spec.kind == "temperatures" and isinstance(given, list) and len(given) > 1:
+            errors.append(f"{where}: expected a key with one value, got {dotted!r} given as {len(given)} monthly "
+                          "values (make it one temperature to sample it)")
+            continue
         if not isinstance(dist, dict):
             errors.append(f'{where}: expected {{ low = "...", mode = "...", high = "..." }} or another '
                           f"distribution, got {dist!r}")
@@ -556,7 +572,8 @@ def _uncertainty(raw, specs, label, errors, ctx) -> dict:
                 mean = parse_value(spec, dist["mean"], f"{where}.mean", **ctx)
                 # a spread is a difference: a temperature's is in K, others keep their kind without bounds
                 sd_spec = _TEMPERATURE_SPREAD if spec.kind in ("temperature", "temperatures") else \
-                    Spec(spec.kind, None, "", spec.unit, spec.expect)
+                    Spec(spec.kind, None, "", spec.unit, "a standard deviation above zero in the unit of the key",
+                         lo=0.0, lo_open=True)
                 params = {"mean": mean, "sd": parse_value(sd_spec, dist["sd"], f"{where}.sd", **ctx)}
             else:
                 params = {f: parse_value(spec, dist[f], f"{where}.{f}", **ctx) for f in DISTRIBUTIONS[kind]}
@@ -573,21 +590,95 @@ def _uncertainty(raw, specs, label, errors, ctx) -> dict:
     return out
 
 
-def load(path: str | Path, overrides: list[str] | tuple[str, ...] = ()) -> Scenario:
-    """Read, validate and resolve the scenario file at ``path``."""
-    p = Path(path)
+#: the largest scenario file read [bytes]; a scenario is a few kilobytes
+MAX_FILE_BYTES = 1 << 20
+
+
+def read_input_file(path: str | Path, what: str = "scenario file") -> bytes:
+    """The bytes of a small regular file: refuses a folder, a FIFO, a device (``/dev/zero``) or a file above
+    :data:`MAX_FILE_BYTES` with one line, without blocking or reading it whole."""
+    import os
+    import stat
+
     label = str(path)
     try:
-        raw = p.read_bytes()
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0))
     except OSError as exc:
-        raise InputError(f"{label}: cannot read the scenario file: {exc.strerror}") from None
+        raise InputError(f"{label}: cannot read the {what}: {exc.strerror}") from None
+    except ValueError:                         # an embedded NUL in the name
+        raise InputError(f"{label}: cannot read the {what}: not a valid file name") from None
     try:
-        data = tomllib.loads(raw.decode("utf-8"))
+        st = os.fstat(fd)
+        if not stat.S_ISREG(st.st_mode):
+            kind = "a folder" if stat.S_ISDIR(st.st_mode) else "not a regular file"
+            raise InputError(f"{label}: expected a {what} (a regular file), got {kind}")
+        if st.st_size > MAX_FILE_BYTES:
+            raise InputError(f"{label}: expected a {what} of at most {MAX_FILE_BYTES // 1024} KiB, got "
+                             f"{st.st_size / 1024:.0f} KiB")
+        chunks, size = [], 0
+        while size <= MAX_FILE_BYTES:
+            try:
+                chunk = os.read(fd, 65536)
+            except OSError as exc:
+                raise InputError(f"{label}: cannot read the {what}: {exc.strerror}") from None
+            if not chunk:
+                break
+            chunks.append(chunk)
+            size += len(chunk)
+        if size > MAX_FILE_BYTES:
+            raise InputError(f"{label}: expected a {what} of at most {MAX_FILE_BYTES // 1024} KiB, got more")
+        return b"".join(chunks)
+    finally:
+        os.close(fd)
+
+
+def parse_toml(raw: bytes, label: str) -> dict:
+    """TOML text into a dict, every failure of the parser as one line."""
+    try:
+        return tomllib.loads(raw.decode("utf-8"))
     except UnicodeDecodeError:
         raise InputError(f"{label}: expected a UTF-8 TOML file, got undecodable bytes") from None
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{label}: TOML syntax: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{label}: TOML syntax: arrays or tables nested too deeply") from None
+    except ValueError as exc:                  # e.g. an integer of more than 4300 digits
+        raise InputError(f"{label}: TOML syntax: {str(exc).split(';')[0]}") from None
+
+
+def load(path: str | Path, overrides: list[str] | tuple[str, ...] = ()) -> Scenario:
+    """Read, validate and resolve the scenario file at ``path``."""
+    label = str(path)
+    raw = read_input_file(path)
+    data = parse_toml(raw, label)
     return resolve(data, label=label, path=str(path), sha256=hashlib.sha256(raw).hexdigest(), overrides=overrides)
+
+
+def text_errors(data, label: str, where: str = "") -> list[str]:
+    """One line per key or string value of a parsed file that holds a control character (an escape sequence, a line
+    break, a direction override): such text is refused rather than shown."""
+    from .units import text_problem
+
+    out: list[str] = []
+
+    stack = [(data, where)]
+    while stack and len(out) < 100:
+        node, path = stack.pop()
+        if isinstance(node, dict):
+            for k, v in node.items():
+                p = f"{path}.{k}" if path else str(k)
+                problem = text_problem(str(k))
+                if problem:
+                    out.append(f"{label}: {p[:80]}: expected a key without control characters, got {problem}")
+                else:
+                    stack.append((v, p))
+        elif isinstance(node, list):
+            stack.extend((v, f"{path}[{i}]") for i, v in enumerate(node))
+        elif isinstance(node, str):
+            problem = text_problem(node)
+            if problem:
+                out.append(f"{label}: {path[:80]}: expected text without control characters, got {problem}")
+    return out
 
 
 # ------------------------------------------------------------------------------------------------------ claims

@@ -19,6 +19,8 @@ from .spec import OPTIONAL, Spec, build, efficiency_spec, specs_of  # noqa: F401
 
 def check_bounds(spec: Spec, value: float, where: str, raw) -> None:
     """One-line error when ``value`` (SI) is outside the spec's bounds; ``raw`` is what the user wrote."""
+    if not np.isfinite(value):
+        raise InputError(f"{where}: expected {spec.expect} (a finite number), got {_show(raw)}")
     lo_bad = spec.lo is not None and (value <= spec.lo if spec.lo_open else value < spec.lo)
     hi_bad = spec.hi is not None and (value >= spec.hi if spec.hi_open else value > spec.hi)
     if lo_bad or hi_bad:
@@ -26,7 +28,32 @@ def check_bounds(spec: Spec, value: float, where: str, raw) -> None:
 
 
 def _show(raw) -> str:
-    return f'"{raw}"' if isinstance(raw, str) else repr(raw)
+    if isinstance(raw, int) and not isinstance(raw, bool) and abs(raw) >= 10 ** 30:
+        return f"an integer of about {int(abs(raw).bit_length() * 0.30103)} digits"
+    text = f'"{raw}"' if isinstance(raw, str) else repr(raw)
+    return text if len(text) <= 120 else text[:117] + "..."
+
+
+#: largest integer a count may be written as before its own bounds are checked
+MAX_COUNT = 10 ** 9
+
+
+def _count(raw) -> int | None:
+    """An integer from an int, an integral float or its text; None if it is not one (or not below MAX_COUNT)."""
+    if isinstance(raw, bool):
+        return None
+    if isinstance(raw, int):
+        return raw if abs(raw) < MAX_COUNT else None
+    if isinstance(raw, str):
+        if len(raw) > 30:
+            return None
+        try:
+            raw = float(raw)
+        except ValueError:
+            return None
+    if isinstance(raw, float) and np.isfinite(raw) and raw.is_integer() and abs(raw) < MAX_COUNT:
+        return int(raw)
+    return None
 
 
 #: a recovery (or MED brine salinity) written "max": the design at the scaling limit of an ion composition
@@ -52,10 +79,7 @@ def parse_value(spec: Spec, raw, where: str, *, currency: str = "USD", temperatu
             raise InputError(f"{where}: expected one of {', '.join(map(repr, spec.choices))}, got {_show(raw)}")
         return raw
     if k == "count":
-        try:
-            v = int(raw) if not isinstance(raw, bool) and float(raw) == int(float(raw)) else None
-        except (TypeError, ValueError):
-            v = None
+        v = _count(raw)
         if v is None:
             raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
         check_bounds(spec, v, where, raw)

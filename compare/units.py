@@ -13,6 +13,7 @@ Units of the trade defined here:
 from __future__ import annotations
 
 import functools
+import math
 import re
 
 import pint
@@ -22,6 +23,15 @@ from .errors import InputError
 CURRENCIES = ("USD", "EUR", "GBP", "JPY", "CNY", "INR", "AUD", "CAD", "CHF", "ZAR", "SAR", "AED", "BRL", "MXN", "CLP")
 
 _NUMBER = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+#: limits on a quantity as written, checked before pint sees it (pint evaluates its unit expressions: a chained
+#: power such as ``9**9**9**9`` would run for ever)
+MAX_TEXT = 120              # characters
+MAX_NESTING = 4             # depth of parentheses in the unit
+MAX_EXPONENT = 12           # largest power of a unit, |n|
+_UNIT_CHARS = re.compile(r"^[A-Za-z_\u00b5\u03bc\u00b0\u03a9 0-9.*/^()%+-]*$")
+_POWER = re.compile(r"(\*\*|\^)\s*([-+]?\s*(?:\d+\.?\d*|\.\d+))\s*(\*\*|\^)?")
+_DIGITS = re.compile(r"\d[\d.eE+-]*")
 
 
 @functools.lru_cache(maxsize=1)
@@ -46,6 +56,52 @@ def registry() -> pint.UnitRegistry:
     return ureg
 
 
+def unit_problem(unit: str) -> str | None:
+    """Why a unit expression is refused before pint sees it (None when it is acceptable): characters outside
+    letters, digits, spaces and ``. * / ^ ( ) % + -``; unbalanced or deeper than :data:`MAX_NESTING` parentheses; a
+    power that is not a plain number of at most :data:`MAX_EXPONENT`, or a chained power.
+
+    Examples
+    --------
+    >>> unit_problem("USD/(m^3/day)") is None
+    True
+    >>> unit_problem("9**9**9**9 m^3/day")
+    'a chained power'
+    """
+    if not _UNIT_CHARS.match(unit):
+        bad = next(c for c in unit if not _UNIT_CHARS.match(c))
+        return f"the character {bad!r} in a unit"
+    depth = 0
+    for c in unit:
+        depth += (c == "(") - (c == ")")
+        if depth < 0:
+            return "a closing parenthesis without its opening one"
+        if depth > MAX_NESTING:
+            return f"parentheses nested deeper than {MAX_NESTING}"
+    if depth:
+        return "an opening parenthesis without its closing one"
+    for m in _POWER.finditer(unit):
+        if m.group(3):
+            return "a chained power"
+        if abs(float(m.group(2).replace(" ", ""))) > MAX_EXPONENT:
+            return f"a power above {MAX_EXPONENT}"
+    if re.search(r"(\*\*|\^)\s*(?![-+]?\s*[\d.])", unit):
+        return "a power that is not a plain number"
+    if any(len(d) > 15 for d in _DIGITS.findall(unit)):
+        return "a number of more than 15 characters in a unit"
+    return None
+
+
+def text_problem(text: str) -> str | None:
+    """Why a value's text is refused whatever its kind (None when acceptable): control or format characters (escape
+    sequences, line breaks, direction overrides) anywhere; for quantities see :func:`parse_quantity`."""
+    import unicodedata
+    for c in text:
+        if unicodedata.category(c) in ("Cc", "Cf", "Zl", "Zp"):
+            return f"a control character ({c!r})"
+    return None
+
+
 def parse_quantity(text, *, where: str, expect: str, dimension: str | None = None) -> pint.Quantity:
     """Parse ``"25 degC"``, ``"40000 m^3/day"`` or a bare number into a pint Quantity.
 
@@ -64,25 +120,52 @@ def parse_quantity(text, *, where: str, expect: str, dimension: str | None = Non
     if isinstance(text, bool):
         raise InputError(f"{where}: expected {expect}, got {text!r}")
     if isinstance(text, (int, float)):
-        q = ureg.Quantity(float(text), "")
+        try:
+            number = float(text)
+        except OverflowError:
+            number = math.inf
+        if not math.isfinite(number):
+            raise InputError(f"{where}: expected {expect} (a finite number), got {text!r}")
+        q = ureg.Quantity(number, "")
     elif isinstance(text, str):
+        if len(text) > MAX_TEXT:
+            raise InputError(f'{where}: expected {expect}, got a text of {len(text)} characters (at most '
+                             f'{MAX_TEXT})')
+        problem = text_problem(text) or ("a comment sign (#)" if "#" in text else None)
+        if problem:
+            raise InputError(f'{where}: expected {expect}, got "{text}" ({problem})')
         m = _NUMBER.match(text)
         if not m:
             raise InputError(f'{where}: expected {expect}, got "{text}"')
         number, unit = m.group(1), m.group(2)
+        if not math.isfinite(float(number)):
+            raise InputError(f'{where}: expected {expect} (a finite number), got "{text}"')
         if unit == "%":
             unit = "percent"
+        problem = unit_problem(unit)
+        if problem:
+            raise InputError(f'{where}: expected {expect}, got "{text}" ({problem})')
         try:
             q = ureg.Quantity(float(number), unit or "")
-        except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
-                TypeError, ValueError, AssertionError) as exc:
-            raise InputError(f'{where}: expected {expect}, got "{text}" (unknown unit: {exc})') from None
+        except ZeroDivisionError:
+            raise InputError(f'{where}: expected {expect}, got "{text}" (a division by zero)') from None
+        except Exception as exc:        # noqa: BLE001 - any failure of pint's parser is bad input
+            detail = str(exc).splitlines()[0][:80] if str(exc) else type(exc).__name__
+            raise InputError(f'{where}: expected {expect}, got "{text}" (unknown unit: {detail})') from None
+        if not math.isfinite(float(q.magnitude)):
+            raise InputError(f'{where}: expected {expect} (a finite number), got "{text}"')
     else:
-        raise InputError(f"{where}: expected {expect}, got {text!r}")
+        raise InputError(f"{where}: expected {expect}, got {_shown(text)}")
     if dimension is not None and q.dimensionality != ureg.get_dimensionality(dimension):
         raise InputError(f'{where}: expected {expect}, got "{text}" (its dimension is {q.dimensionality}, '
                          f'not {dimension})')
     return q
+
+
+def _shown(value) -> str:
+    """A value of an unexpected type, shortened for an error line."""
+    text = repr(value)
+    return text if len(text) <= 80 else text[:77] + "..."
 
 
 def to_si(text, unit: str, *, where: str, expect: str) -> float:
@@ -93,7 +176,10 @@ def to_si(text, unit: str, *, where: str, expect: str) -> float:
     if q.dimensionality != target.dimensionality:
         raise InputError(f'{where}: expected {expect}, got "{text}" (its dimension is {q.dimensionality}, '
                          f'not that of {unit})')
-    return float(q.to(target).magnitude)
+    v = float(q.to(target).magnitude)
+    if not math.isfinite(v):
+        raise InputError(f'{where}: expected {expect} (a finite number), got "{text}"')
+    return v
 
 
 def parse_temperature(text, *, where: str) -> float:
