@@ -73,7 +73,11 @@ def _emit(fmt: str, payload, *, table, markdown, csv_rows) -> None:
 
 def _console():
     from rich.console import Console
-    return Console(highlight=False)
+
+    class _Console(Console):
+        def on_broken_pipe(self) -> None:      # rich would exit 1; a closed pipe is the reader's choice
+            raise BrokenPipeError()
+    return _Console(highlight=False)
 
 
 # ------------------------------------------------------------------------------------------------------ commands
@@ -212,7 +216,7 @@ def cmd_compare(args) -> int:
     saved = None
     if not args.no_save:
         label = scenarios[0].name if len(scenarios) == 1 else f"{len(scenarios)}-scenarios"
-        with RunFolder(Path(args.out or "results"), label) as folder:
+        with RunFolder(args.parent, label) as folder:
             files = {"results.json": json_text, "results.csv": csv_text, "report.md": md_text,
                      "run.json": to_json(run_record(scenarios, ["desal", *args.argv]))}
             for name, text in files.items():
@@ -260,12 +264,19 @@ def cmd_sweep(args) -> int:
                          "got a grid")
     if args.sensitivity == "sobol" and args.lhs:
         raise InputError("--lhs: --sensitivity sobol draws its own design (Sobol points); expected no --lhs, got it")
+    if not 0 <= args.seed < 2 ** 63:
+        raise InputError(f"--seed: expected a whole number from 0 to 2^63 - 1, got {args.seed}")
+    if args.samples is not None and args.samples < 1:
+        raise InputError(f"--samples: expected a number of samples of 1 or more, got {args.samples}")
     scenario = _load_all([args.scenario], args.set or [])[0]
     if args.vary:
         axes = [sw.parse_vary(v, scenario) for v in args.vary]
+        _check_sweep_size(args, scenario, int(np.prod([float(a.values.size) for a in axes])))
         source, mode, notes = sw.grid(axes), "grid", []
     else:
         axes = []
+        _check_sweep_size(args, scenario, args.samples * (len(scenario.uncertainty) + 2)
+                          if args.sensitivity == "sobol" else args.samples)
         if args.sensitivity == "sobol":
             from .sensitivity import sobol_cases
             cases, _, notes = sobol_cases(scenario, args.samples, args.seed)
@@ -291,7 +302,7 @@ def cmd_sweep(args) -> int:
         raise InputError("--cases parquet: expected the optional extra 'parquet' (pyarrow) installed, got none; "
                          "use --cases csv")
     executor = ex.make(args.workers, args.scheduler)
-    folder = None if args.no_save else RunFolder(Path(args.out or "results"), f"{scenario.name}-sweep")
+    folder = None if args.no_save else RunFolder(args.parent, f"{scenario.name}-sweep")
     frames = [] if args.format == "csv" else None
     csv_file = None
     try:
@@ -354,6 +365,49 @@ def cmd_sweep(args) -> int:
     if saved is not None:
         print(f"saved: {saved}", file=sys.stderr)
     return 0
+
+
+def _bytes(n: float) -> str:
+    for unit, size in (("TB", 1e12), ("GB", 1e9), ("MB", 1e6)):
+        if n >= size:
+            return f"{n / size:,.3g} {unit}"
+    return f"{n / 1e3:,.3g} kB"
+
+
+def _duration(s: float) -> str:
+    for unit, size in (("days", 86400), ("hours", 3600), ("minutes", 60)):
+        if s >= size:
+            return f"{s / size:,.3g} {unit}"
+    return f"{s:.0f} s"
+
+
+def _check_sweep_size(args, scenario, n_cases: int) -> None:
+    """Refuse, before anything is drawn or allocated, a sweep beyond :data:`compare.sweep.MAX_EVALUATIONS` (unless
+    --allow-large) or one whose cases file cannot fit on the disk of --out (always)."""
+    import os
+    import shutil
+
+    from . import sweep as sw
+
+    est = sw.size_estimate(scenario, n_cases)
+    what = (f"{est['cases']:,} cases x {est['technologies']} technologies x {est['periods']} period"
+            f"{'s' if est['periods'] > 1 else ''} = {est['evaluations']:,.0f} evaluations (about "
+            f"{_bytes(est['memory'])} of memory, {_bytes(est['disk'])} of cases file, {_duration(est['seconds'])})")
+    if est["evaluations"] > sw.MAX_EVALUATIONS and not args.allow_large:
+        raise InputError(f"sweep: expected at most {sw.MAX_EVALUATIONS:,} evaluations, got {what}; pass "
+                         "--allow-large to run it anyway")
+    memory = getattr(os, "sysconf", None) and os.sysconf("SC_PHYS_PAGES") * os.sysconf("SC_PAGE_SIZE")
+    if memory and est["memory"] > memory:
+        raise InputError(f"sweep: expected a sweep that fits in this machine's memory ({_bytes(memory)}), got "
+                         f"{what}")
+    if args.parent is not None:
+        probe = args.parent
+        while not probe.exists() and probe.parent != probe:
+            probe = probe.parent
+        free = shutil.disk_usage(probe).free
+        if est["disk"] > free:
+            raise InputError(f"sweep: expected a cases file that fits on the disk of {probe} ({_bytes(free)} "
+                             f"free), got {what}")
 
 
 class _progress:
@@ -461,13 +515,16 @@ def cmd_report(args) -> int:
     from .present.report import read_sweep, write_report
     from .runrecord import run_record
 
+    from .present.files import check_parent
+
+    parent = check_parent(args.out)
     scenario = _load_all([args.scenario], args.set or [])[0]
     claims = list(scenario.claims) + (load_claims(args.claim_file) if args.claim_file else [])
     sweep = read_sweep(args.sweep) if args.sweep else None
     payload = json.loads(to_json(_payload(evaluate(scenario))))      # exactly what compare --format json prints
     judgements = [judge(args.scenario, c, args.set or []) for c in claims]
     run = json.loads(to_json(run_record([scenario], ["desal", "report", *args.argv])))
-    saved, notes = write_report(Path(args.out or "results"), scenario.name, payload, run, judgements, sweep,
+    saved, notes = write_report(parent, scenario.name, payload, run, judgements, sweep,
                                 pdf=args.pdf)
     for line in notes:
         print(line, file=sys.stderr)
@@ -530,9 +587,13 @@ def _save_arguments(p: argparse.ArgumentParser, plot_help: str) -> None:
 
 
 def _check_save_arguments(args) -> None:
-    """Refuse contradictory saving options, and --plot without matplotlib, before any work is done."""
-    if args.out and args.no_save:
+    """Refuse contradictory saving options, an --out that cannot take a run folder, and --plot without matplotlib,
+    before any work is done; ``args.parent`` is then the checked folder (None with --no-save)."""
+    from .present.files import check_parent
+
+    if args.out is not None and args.no_save:
         raise InputError("--out and --no-save: expected one of them, got both")
+    args.parent = None if args.no_save else check_parent(args.out)
     if args.plot:
         if args.no_save:
             raise InputError("--plot: expected a run folder to write the plots into, got --no-save")
@@ -599,6 +660,9 @@ def build_parser() -> argparse.ArgumentParser:
                                                                "(default with pyarrow) or one cases.csv")
     _save_arguments(w, "draw the metrics against the grid, or their distributions (PNG, SVG into the run folder)")
     w.add_argument("--quiet", action="store_true", help="no progress bar")
+    w.add_argument("--allow-large", action="store_true",
+                   help="run a sweep beyond 10,000,000 technology evaluations (cases x technologies x periods); "
+                        "without it such a sweep is refused with its estimated memory, disk and time")
     w.set_defaults(func=cmd_sweep)
 
     k = sub.add_parser("check", help="validate scenario files and print every resolved value with its source",
@@ -615,35 +679,100 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
+#: error lines printed at most; the rest are counted
+MAX_ERROR_LINES = 20
+
+#: errno values of a write that fails for a reason outside the tool (full disk, read-only file system ...)
+_WRITE_ERRNOS = ("ENOSPC", "EDQUOT", "EROFS", "EACCES", "EPERM", "ENOTDIR", "EISDIR", "ENAMETOOLONG", "EEXIST",
+                 "ELOOP", "EFBIG")
+
+
+class Terminated(BaseException):
+    """SIGTERM, raised where the program stands so that open run folders are removed on the way out."""
+
+
+def _on_sigterm(signum, frame):
+    raise Terminated()
+
+
+def _print_errors(lines) -> None:
+    from .errors import printable
+
+    lines = list(lines)
+    for line in lines[:MAX_ERROR_LINES]:
+        print(f"error: {printable(line)}", file=sys.stderr)
+    if len(lines) > MAX_ERROR_LINES:
+        print(f"error: ... and {len(lines) - MAX_ERROR_LINES} more", file=sys.stderr)
+
+
+def _quiet_stdout() -> None:
+    """After a closed pipe (``desal check ... | head -1``): send what is left to /dev/null, so that the flush at exit
+    neither fails nor complains."""
+    import os
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError):
+        pass
+
+
 def main(argv: list[str] | None = None) -> int:
     """Entry point; returns the exit status."""
+    import errno
+    import signal
+    import warnings
+
     argv = sys.argv[1:] if argv is None else list(argv)
     debug = "--debug" in argv
+    previous = None
     try:
-        parser = build_parser()
-        args = parser.parse_args(argv)
-        if not getattr(args, "command", None):
-            parser.print_help()
-            return 2
-        args.argv = argv
-        return int(args.func(args) or 0)
+        previous = signal.signal(signal.SIGTERM, _on_sigterm)
+    except ValueError:                 # not the main thread (a caller embedding main)
+        pass
+    try:
+        with warnings.catch_warnings():
+            if not debug:              # numerical warnings of masked, infeasible cases are not for the user
+                warnings.simplefilter("ignore", RuntimeWarning)
+            parser = build_parser()
+            args = parser.parse_args(argv)
+            if not getattr(args, "command", None):
+                parser.print_help()
+                return 2
+            args.argv = argv
+            code = int(args.func(args) or 0)
+            sys.stdout.flush()
+            return code
     except InputErrors as exc:
-        for line in exc.messages:
-            print(f"error: {line}", file=sys.stderr)
+        _print_errors(exc.messages)
         return 2
     except InputError as exc:
-        print(f"error: {exc}", file=sys.stderr)
+        _print_errors([str(exc)])
         return 2
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
+    except Terminated:
+        print("terminated (SIGTERM): nothing saved", file=sys.stderr)
+        return 143
     except SystemExit as exc:          # --help and --version
         return int(exc.code or 0)
     except BrokenPipeError:
+        _quiet_stdout()
         return 0
+    except OSError as exc:
+        if exc.errno is not None and errno.errorcode.get(exc.errno) in _WRITE_ERRNOS and not debug:
+            where = f" {exc.filename}" if exc.filename else ""
+            _print_errors([f"cannot write{where}: {exc.strerror} (nothing saved)"])
+            return 2
+        if debug:
+            raise
+        _print_errors([f"unexpected failure: {type(exc).__name__}: {exc} (run again with --debug for the traceback)"])
+        return 1
     except Exception as exc:  # the one boundary for the unexpected
         if debug:
             raise
-        print(f"error: unexpected failure: {type(exc).__name__}: {exc} (run again with --debug for the traceback)",
-              file=sys.stderr)
+        _print_errors([f"unexpected failure: {type(exc).__name__}: {exc} (run again with --debug for the traceback)"])
         return 1
+    finally:
+        if previous is not None:
+            signal.signal(signal.SIGTERM, previous)

@@ -38,6 +38,8 @@ METRICS = {m: (_FIELDS[a].name, _FIELDS[a].unit) for m, a in METRIC_ATTRS.items(
 #: ranking criteria: name -> metric (lower is better)
 RANK_BY = {"cost": "lcow", "energy": "work_equivalent", "emissions": "emissions"}
 NOT_VARIABLE = ("choice", "flag", "table")
+#: points of one --vary axis at most (the whole sweep is bounded by :func:`size_estimate`)
+MAX_AXIS_POINTS = 1_000_000
 
 
 # ---------------------------------------------------------------------------------------------- varied keys
@@ -126,6 +128,8 @@ def parse_vary(text: str, scenario: Scenario) -> Axis:
             n = 0
         if n < 2 or str(n) != parts[2].strip():
             raise InputError(f'{where}: expected a number of points N of 2 or more, got "{parts[2].strip()}"')
+        if n > MAX_AXIS_POINTS:
+            raise InputError(f'{where}: expected at most {MAX_AXIS_POINTS:,} points on one axis, got "{n:,}"')
         a, b = (_parse_one(spec, x, where, ctx) for x in parts[:2])
         if len(parts) == 4:
             if a <= 0 or b <= 0:
@@ -730,3 +734,26 @@ def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
 __all__ = ["Axis", "SweepResult", "parse_vary", "grid_cases", "sample_cases", "sampler", "grid", "Samples", "Grid",
            "Given", "ChunkTask", "evaluate_chunk", "run", "summary", "ranking",
            "break_even", "first_place", "payload", "METRICS", "RANK_BY"]
+
+
+# ---------------------------------------------------------------------------------------------- size
+#: technology evaluations (cases x technologies x periods) a sweep runs without being told to go on
+MAX_EVALUATIONS = 10_000_000
+#: measured on the development machine (benchmarks/bench_sweep.py): kept metrics per case and technology, a row of
+#: cases.csv, the working set of one chunk, the time of one technology evaluation
+BYTES_KEPT_PER_ROW = 64
+BYTES_CSV_PER_ROW = 450
+BYTES_CHUNK = 400e6
+SECONDS_PER_EVALUATION = 2.6e-4
+
+
+def size_estimate(scenario: Scenario, n_cases: int) -> dict:
+    """What a sweep of ``n_cases`` cases of ``scenario`` will take, estimated before it starts: technology
+    evaluations (cases x enabled technologies x periods), memory [bytes], the cases file [bytes] and time [s]."""
+    techs = max(len(scenario.technologies), 1)
+    periods = int(np.size(scenario.values["feed"]["temperature"]))
+    rows = n_cases * techs
+    evaluations = rows * periods
+    return {"cases": n_cases, "technologies": techs, "periods": periods, "evaluations": evaluations,
+            "memory": rows * BYTES_KEPT_PER_ROW + BYTES_CHUNK, "disk": rows * BYTES_CSV_PER_ROW,
+            "seconds": evaluations * SECONDS_PER_EVALUATION}

@@ -58,6 +58,7 @@ def print_claims(console, body: dict) -> None:
     from rich.markup import escape
     from rich.text import Text
 
+    from ..errors import printable
     from .tables import rich_table
     for j in body["claims"]:
         console.print(rich_table(title(j), ["compared (work equivalent)", "kWh/m3"], figure_rows(j)))
@@ -72,23 +73,23 @@ def print_claims(console, body: dict) -> None:
                  "above_model": "bold magenta"}[j["verdict"]]
         console.print(Text(j["verdict"], style=style))
         for line in notes(j):
-            console.print(escape(line), highlight=False)
+            console.print(escape(printable(line)), highlight=False)
         console.print()
     console.print(Text(CAUTION, style="dim"))
 
 
 def claims_markdown(body: dict) -> str:
-    from .tables import markdown_table
-    parts = [f"# Claims at {body['scenario']}", ""]
+    from .tables import markdown_table, md
+    parts = [f"# Claims at {md(body['scenario'])}", ""]
     for j in body["claims"]:
-        parts += [f"## {title(j)}", "", f"**{j['verdict']}**", "",
+        parts += [f"## {md(title(j))}", "", f"**{md(j['verdict'])}**", "",
                   markdown_table(["compared (work equivalent)", "kWh/m3"], figure_rows(j)), "",
                   "Best-practice design, keys changed from the scenario's:", "",
                   markdown_table(["key", "value", "why"], parameter_rows(j)), ""]
         if j["scenario_design"]["parameters"]:
             parts += ["Scenario's design, keys changed for the scope:", "",
                       markdown_table(["key", "value", "why"], parameter_rows(j, "scenario_design")), ""]
-        parts += [f"- {line}" for line in notes(j)] + [""]
+        parts += [f"- {md(line)}" for line in notes(j)] + [""]
     parts += [f"> {CAUTION}", ""]
     return "\n".join(parts)
 

@@ -7,6 +7,7 @@ import io
 import json
 import math
 import os
+import re
 import tempfile
 from pathlib import Path
 
@@ -55,8 +56,26 @@ def flatten(record: dict, prefix: str = "") -> dict:
     return out
 
 
+_NUMERIC = re.compile(r"^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$")
+
+
+def csv_cell(value):
+    """A CSV cell that a spreadsheet will not run: text starting with ``=``, ``+``, ``-``, ``@`` (or a tab or
+    carriage return) gets a leading apostrophe, so it shows as text; numbers, and text that is a plain number, are
+    kept as they are.
+
+    Examples
+    --------
+    >>> csv_cell("=HYPERLINK(1)"), csv_cell("-2.5"), csv_cell(-2.5)
+    ("'=HYPERLINK(1)", '-2.5', -2.5)
+    """
+    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r") and not _NUMERIC.match(value):
+        return "'" + value
+    return value
+
+
 def to_csv(rows: list[dict]) -> str:
-    """CSV text, one row per dict, columns in first-seen order."""
+    """CSV text, one row per dict, columns in first-seen order; text cells neutralised (:func:`csv_cell`)."""
     flat = [flatten(r) for r in rows]
     columns: list[str] = []
     for r in flat:
@@ -64,10 +83,10 @@ def to_csv(rows: list[dict]) -> str:
             if k not in columns:
                 columns.append(k)
     buf = io.StringIO()
-    writer = csv.DictWriter(buf, fieldnames=columns, lineterminator="\n")
+    writer = csv.DictWriter(buf, fieldnames=[csv_cell(c) for c in columns], lineterminator="\n")
     writer.writeheader()
     for r in flat:
-        writer.writerow({k: ("" if r.get(k) is None else r.get(k)) for k in columns})
+        writer.writerow({csv_cell(k): ("" if r.get(k) is None else csv_cell(r.get(k))) for k in columns})
     return buf.getvalue()
 
 
@@ -96,8 +115,93 @@ def write_atomic(path: Path, data: str | bytes) -> Path:
     return path
 
 
+#: the hidden temporary name of a run folder being written: .<stamp>-<slug>.<pid>.<random>
+_TEMPORARY = re.compile(r"^\.\d{8}-\d{6}-[a-z0-9-]+\.(?:(\d+)\.)?[A-Za-z0-9_]+$")
+
+
+def _mode(directory: bool) -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return (0o777 if directory else 0o666) & ~mask
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OverflowError, ValueError):
+        return True
+    return True
+
+
+def clean_leftovers(parent: Path, max_age: float = 3600.0) -> list[Path]:
+    """Remove hidden temporary run folders under ``parent`` left by a run that was killed: those whose writing
+    process no longer exists (or, in the older form without a process id, older than ``max_age`` seconds).
+    Returns what was removed."""
+    import shutil
+    import time
+
+    removed = []
+    try:
+        entries = list(os.scandir(parent))
+    except OSError:
+        return removed
+    for entry in entries:
+        m = _TEMPORARY.match(entry.name)
+        if not m or not entry.is_dir(follow_symlinks=False):
+            continue
+        try:
+            stale = not _alive(int(m.group(1))) if m.group(1) else \
+                time.time() - entry.stat(follow_symlinks=False).st_mtime > max_age
+        except OSError:
+            continue
+        if stale:
+            shutil.rmtree(entry.path, ignore_errors=True)
+            removed.append(Path(entry.path))
+    return removed
+
+
+def check_parent(text: str | None, option: str = "--out") -> Path:
+    """The folder under which run folders are created (``--out``, default ``results``), checked before any work:
+    one-line :class:`~compare.errors.InputError` for an empty name, a file, a dangling link, an existing run folder
+    (a run would nest inside it), or a folder that cannot be written (permissions, a read-only file system). The
+    path is normalised first (``a/../b`` is ``b``, so no empty ``a`` is left behind). Nothing is created."""
+    from ..errors import InputError, printable
+
+    if text is None:
+        text = "results"
+    shown = printable(text)
+    if not text.strip():
+        raise InputError(f'{option}: expected a folder, got "{shown}"')
+    if "\0" in text or any(not c.isprintable() for c in text):
+        raise InputError(f'{option}: expected a folder name without control characters, got "{shown}"')
+    path = Path(os.path.normpath(text))
+    probe = path
+    while True:
+        if probe.is_symlink() and not probe.exists():
+            raise InputError(f'{option}: expected a folder, got "{shown}" ({probe} is a link to nothing)')
+        if probe.exists():
+            break
+        if probe.parent == probe:
+            break
+        probe = probe.parent
+    if not probe.is_dir():
+        raise InputError(f'{option}: expected a folder, got "{shown}" ({probe} is a file)')
+    for folder in (probe.resolve(), *probe.resolve().parents):
+        if (folder / "run.json").is_file():
+            raise InputError(f'{option}: expected a folder that holds run folders, got "{shown}" ({folder} is a run '
+                             "folder itself; give its parent)")
+    try:
+        tmp = tempfile.mkdtemp(prefix=".desal-probe.", dir=probe)
+        os.rmdir(tmp)
+    except OSError as exc:
+        raise InputError(f'{option}: expected a folder that can be written, got "{shown}" ({probe}: '
+                         f"{exc.strerror})") from None
+    return path
+
+
 def _slug(text: str) -> str:
-    import re
     s = re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower()
     return s[:40] or "run"
 
@@ -110,11 +214,12 @@ class RunFolder:
     def __init__(self, parent: Path, label: str):
         import datetime as _dt
 
-        self.parent = Path(parent)
+        self.parent = Path(os.path.normpath(parent))
         self.parent.mkdir(parents=True, exist_ok=True)
+        clean_leftovers(self.parent)
         stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
         self.base = f"{stamp}-{_slug(label)}"
-        self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.base}.", dir=self.parent))
+        self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.base}.{os.getpid()}.", dir=self.parent))
         self.path: Path | None = None
 
     def write(self, name: str, data: str | bytes) -> Path:
@@ -132,6 +237,12 @@ class RunFolder:
         return self.tmp / name
 
     def commit(self) -> Path:
+        # one mode for every file of a run (mkstemp makes private files, streams and libraries use the umask)
+        for root, dirs, files in os.walk(self.tmp):
+            for name in files:
+                os.chmod(os.path.join(root, name), _mode(False))
+            for name in dirs:
+                os.chmod(os.path.join(root, name), _mode(True))
         for k in range(1000):
             target = self.parent / (self.base if k == 0 else f"{self.base}-{k + 1}")
             if target.exists():
@@ -142,9 +253,7 @@ class RunFolder:
                 if target.exists():
                     continue
                 raise
-            mask = os.umask(0)
-            os.umask(mask)
-            os.chmod(target, 0o777 & ~mask)     # mkdtemp made it private; a run folder is as readable as any
+            os.chmod(target, _mode(True))     # mkdtemp made it private; a run folder is as readable as any
             self.path = target
             return target
         raise FileExistsError(f"no free run folder name under {self.parent}")

@@ -8,7 +8,29 @@ from rich.markup import escape
 from rich.table import Table
 from rich.text import Text
 
+from ..errors import printable
 from . import CAUTION
+
+#: characters with a meaning in Markdown (or HTML inside it), escaped with a backslash in text from input
+_MARKDOWN = str.maketrans({c: "\\" + c for c in "\\`*_{}<>#!|~&$"})
+
+
+def md(text) -> str:
+    """Text from input made inert in Markdown: control characters escaped visibly, Markdown and HTML signs
+    backslash-escaped (``<script>`` shows as text, ``# x`` starts no heading, ``|`` splits no cell).
+
+    Examples
+    --------
+    >>> md("[a](u) <b>|# x")
+    '[a\\\\](u) \\\\<b\\\\>\\\\|\\\\# x'
+    """
+    import re
+    # a closing bracket that would make a link ("[x](url)", "[x][ref]", "[x]: url") is escaped; plain "[unit]" stays
+    return re.sub(r"\](?=[(\[:])", r"\\]", printable(text).translate(_MARKDOWN))
+
+
+def _md_cell(x) -> str:
+    return md(x) if isinstance(x, str) else fmt_number(x)
 
 
 def fmt_number(v, digits: int = 4) -> str:
@@ -36,19 +58,19 @@ def fmt_number(v, digits: int = 4) -> str:
 
 
 def rich_table(title: str, columns: list[str], rows: list[list], caption: str | None = None) -> Table:
-    table = Table(title=escape(title), caption=caption and escape(caption), title_justify="left",
-                  caption_justify="left")
+    table = Table(title=escape(printable(title)), caption=caption and escape(printable(caption)),
+                  title_justify="left", caption_justify="left")
     for i, c in enumerate(columns):
-        table.add_column(escape(c), justify="left" if i == 0 else "right")
+        table.add_column(escape(printable(c)), justify="left" if i == 0 else "right")
     for r in rows:
-        table.add_row(*[Text(fmt_number(x)) if not isinstance(x, Text) else x for x in r])
+        table.add_row(*[Text(printable(fmt_number(x))) if not isinstance(x, Text) else x for x in r])
     return table
 
 
 def markdown_table(columns: list[str], rows: list[list]) -> str:
-    head = "| " + " | ".join(columns) + " |"
+    head = "| " + " | ".join(md(c) for c in columns) + " |"
     sep = "|" + "|".join([" --- "] + [" ---: "] * (len(columns) - 1)) + "|"
-    body = ["| " + " | ".join(fmt_number(x) for x in r) + " |" for r in rows]
+    body = ["| " + " | ".join(_md_cell(x) for x in r) + " |" for r in rows]
     return "\n".join([head, sep, *body])
 
 
@@ -56,18 +78,18 @@ def print_tables(console: Console, tables: list[Table], warnings: list[str]) -> 
     for t in tables:
         console.print(t)
     for w in warnings:
-        console.print(f"[yellow]warning:[/yellow] {escape(w)}", highlight=False)
+        console.print(f"[yellow]warning:[/yellow] {escape(printable(w))}", highlight=False)
     console.print(Text(CAUTION, style="dim"))
 
 
 def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]], warnings: list[str]) -> str:
-    parts = [f"# {title}", ""]
+    parts = [f"# {md(title)}", ""]
     for heading, columns, rows in sections:
         if heading:
-            parts += [f"## {heading}", ""]
+            parts += [f"## {md(heading)}", ""]
         parts += [markdown_table(columns, rows), ""]
     if warnings:
-        parts += ["## Warnings", ""] + [f"- {w}" for w in warnings] + [""]
+        parts += ["## Warnings", ""] + [f"- {md(w)}" for w in warnings] + [""]
     parts += [f"> {CAUTION}", ""]
     return "\n".join(parts)
 
