@@ -171,9 +171,9 @@ def test_every_run_file_has_one_mode_and_leftovers_are_cleaned(tmp_path, capsys)
     capsys.readouterr()
     folders = list(tmp_path.iterdir())
     assert len(folders) == 1 and not folders[0].name.startswith(".")
-    modes = {p.name: p.stat().st_mode & 0o777 for p in folders[0].iterdir()}
-    assert set(modes.values()) == {_mode(False)}, modes
-    assert folders[0].stat().st_mode & 0o777 == _mode(True)
+    modes = {p.name: p.stat().st_mode & 0o777 for p in folders[0].rglob("*") if p.is_file()}
+    assert len(modes) >= 4 and set(modes.values()) == {_mode(False)}, modes
+    assert {p.stat().st_mode & 0o777 for p in [folders[0], *folders[0].rglob("*")] if p.is_dir()} == {_mode(True)}
 
 
 # ------------------------------------------------------------------------------------------------ processes
