@@ -702,7 +702,10 @@ def _print_errors(lines) -> None:
     for line in lines[:MAX_ERROR_LINES]:
         print(f"error: {printable(line)}", file=sys.stderr)
     if len(lines) > MAX_ERROR_LINES:
-        print(f"error: ... and {len(lines) - MAX_ERROR_LINES} more", file=sys.stderr)
+        rest = lines[MAX_ERROR_LINES:]
+        where = {line.split(": ", 1)[0] for line in rest}     # the file (or option) they share, if one
+        prefix = f"{printable(where.pop())}: " if len(where) == 1 and all(": " in x for x in rest) else ""
+        print(f"error: {prefix}... and {len(rest)} more", file=sys.stderr)
 
 
 def _quiet_stdout() -> None:

@@ -104,7 +104,7 @@ def test_error_lines_are_capped(tmp_path, capsys):
     code, out, err = run(capsys, "check", str(path))
     lines = err.splitlines()
     assert code == 2 and len(lines) == MAX_ERROR_LINES + 1
-    assert lines[-1] == f"error: ... and {300 - MAX_ERROR_LINES} more"
+    assert lines[-1] == f"error: {path}: ... and {300 - MAX_ERROR_LINES} more"
 
 
 def test_only_small_regular_files_are_read(tmp_path, capsys):
