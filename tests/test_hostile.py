@@ -55,7 +55,7 @@ BROKEN = [
     ("arrays nested 1000 deep", "a = " + "[" * 1000 + "]" * 1000 + "\n", "nested too deeply"),
     ("tables nested 1000 deep", "a = " + "{b = " * 1000 + "1" + "}" * 1000 + "\n", "nested too deeply"),
     ("uncertain ions", BASE.replace('salinity = "35 g/kg"', 'salinity = "35 g/kg"\nwater = "ions"\n'
-                                    'ions = { Na = "10.8 g/kg", Cl = "16.65 g/kg" }')
+                                    'ions = { Na = "13.77 g/kg", Cl = "21.23 g/kg" }')
      + '[uncertainty]\n"feed.ions" = { low = "1", high = "2" }\n', "cannot be sampled"),
     ("uncertain monthly temperature", BASE.replace('"25 degC"', MONTHS)
      + '[uncertainty]\n"feed.temperature" = { low = "15 degC", high = "25 degC" }\n', "monthly"),
