@@ -188,8 +188,13 @@ def floor_flags(payload: dict) -> list[dict]:
 
 
 def _sentence(text: str) -> str:
+    """One sentence: a capital first letter (unless it starts with a key such as ``ro.recovery``) and a stop."""
     text = text.strip()
-    return (text[0].upper() + text[1:] + ("" if text.endswith(".") else ".")) if text else text
+    if not text:
+        return text
+    first = text.split(" ", 1)[0]
+    head = text if ("." in first.rstrip(".:,") or "_" in first) else text[0].upper() + text[1:]
+    return head + ("" if text.endswith(".") else ".")
 
 
 # ------------------------------------------------------------------------------------------------------ sweeps
@@ -293,9 +298,16 @@ def sweep_context(sweep: dict) -> dict:
     s = sweep["summary"]
     shares = []
     for r in s.get("ranking", []):
+        ci = r.get("first_share_ci") or {}
+
+        def share(k, v):
+            name = k.upper() if k != "none feasible" else k
+            lo_hi = ci.get(k)
+            return f"{name} {100 * v:.0f} %" + (f" ({100 * lo_hi[0]:.0f}-{100 * lo_hi[1]:.0f} %)" if lo_hi else "")
+        statement = (r.get("separation") or {}).get("statement")
         shares.append({"criterion": r["criterion"],
-                       "shares": ", ".join(f"{k.upper() if k != 'none feasible' else k} {100 * v:.0f} %"
-                                           for k, v in r.get("first_share", {}).items() if v)})
+                       "shares": ", ".join(share(k, v) for k, v in r.get("first_share", {}).items() if v),
+                       "statement": _sentence(statement) if statement else ""})
     changes = [c for r in s.get("ranking", []) for c in r.get("changes", [])]
     flags = [dict(f) for f in s.get("flags") or []]
     if not flags:
