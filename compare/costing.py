@@ -28,7 +28,7 @@ Flows are taken as volumes in the ratio of the mass flows (feed = product / reco
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any, Callable
 
 import numpy as np

@@ -3,7 +3,6 @@ text from input is shown inert, and a killed or failed run leaves nothing behind
 
 import csv
 import io
-import json
 import os
 import signal
 import subprocess

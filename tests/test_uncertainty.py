@@ -1,7 +1,6 @@
 """Uncertain inputs: distributions truncated to each key's valid range (never clipped), rank correlations through a
 Gaussian copula, invalid correlation matrices refused, and physical inputs shared by construction."""
 
-import json
 
 import numpy as np
 import pytest
