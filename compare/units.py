@@ -15,6 +15,7 @@ from __future__ import annotations
 import functools
 import math
 import re
+from pathlib import Path
 
 import pint
 
@@ -34,14 +35,28 @@ _POWER = re.compile(r"(\*\*|\^)\s*([-+]?\s*(?:\d+\.?\d*|\.\d+))\s*(\*\*|\^)?")
 _DIGITS = re.compile(r"\d[\d.eE+-]*")
 
 
+def _pint_cache() -> str | None:
+    """pint's cache of parsed definitions: a sub-folder of the cache folder per pint installation (its version and
+    location), because pint's cached entries hold the absolute paths of its definition files, so that an entry
+    written by another installation (another virtual environment, since removed) is never read."""
+    from .cache import folder
+    where = folder()
+    if where is None:
+        return None
+    import hashlib
+    tag = f"{pint.__version__}:{Path(pint.__file__).resolve().parent}"
+    return str(where / f"pint-{hashlib.sha256(tag.encode()).hexdigest()[:16]}")
+
+
 @functools.lru_cache(maxsize=1)
 def registry() -> pint.UnitRegistry:
     """The project's unit registry (built once; pint keeps its parsed definitions in the cache folder, which makes
-    later builds about ten times faster)."""
-    from .cache import folder
-    where = folder()
-    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True, on_redefinition="ignore",
-                             cache_folder=None if where is None else str(where / "pint"))
+    later builds about ten times faster; an unreadable cache only costs time)."""
+    options = dict(autoconvert_offset_to_baseunit=True, on_redefinition="ignore")
+    try:
+        ureg = pint.UnitRegistry(cache_folder=_pint_cache(), **options)
+    except Exception:                                  # noqa: BLE001 - a stale or broken cache: parse afresh
+        ureg = pint.UnitRegistry(cache_folder=None, **options)
     for code in CURRENCIES:
         ureg.define(f"{code} = [currency_{code}]")
     ureg.define("MGD = 1e6 * gallon / day")

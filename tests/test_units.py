@@ -38,3 +38,26 @@ def test_errors_name_the_expected_dimension():
         parse_salinity("-1 g/kg", where="--salinity")
     with pytest.raises(InputError, match="unknown unit"):
         parse_quantity("3 furlongz", where="x", expect="a length")
+
+
+def test_registry_survives_a_broken_definitions_cache(monkeypatch, tmp_path):
+    # pint's cached definitions hold absolute paths of the installation that wrote them; a cache written by a
+    # virtual environment since removed made every build fail. The folder is per installation, and a cache that
+    # still fails is left aside.
+    import pint
+
+    from compare import units
+    monkeypatch.setenv("DESAL_COMPARE_CACHE", str(tmp_path))
+    assert units._pint_cache().startswith(str(tmp_path / "pint-"))
+    real = pint.UnitRegistry
+    calls = []
+
+    def flaky(*args, cache_folder=None, **kw):
+        calls.append(cache_folder)
+        if cache_folder is not None:
+            raise FileNotFoundError("a definitions file of a removed installation")
+        return real(*args, cache_folder=None, **kw)
+    monkeypatch.setattr(pint, "UnitRegistry", flaky)
+    ureg = units.registry.__wrapped__()          # a fresh build; the process's own registry is left alone
+    assert ureg("1 MGD").to("m^3/day").magnitude == pytest.approx(3785.411784)
+    assert calls[0] is not None and calls[-1] is None
