@@ -233,8 +233,23 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     uses_heat = q > 0
     phi = work_equivalent_factor(np.where(uses_heat, Th, 1000.0), site)
     work_heat = np.where(uses_heat, q * phi, 0.0)
-    lw = least_work(model, S_f, T, np.clip(r, 0.0, 0.999), np.minimum(Sp, S_f * 0.999), model.water)
+    T0 = grid(site.dead_state)
+    lw = least_work(model, S_f, T, np.clip(r, 0.0, 0.999), np.minimum(Sp, S_f * 0.999), model.water,
+                    dead_state=T0 if np.any(T0 != T) else None)
+    # second-law efficiency always against exergy at the dead state (the least work's own reference), whatever
+    # rule values the heat for the work equivalent: the turbine's lost work can be less than the heat's exergy
+    exergy_heat = np.where(uses_heat, q * exergy_factor(np.where(uses_heat, Th, 1000.0), T0), 0.0)
     flags = list(perf.flags)
+    worthless = uses_heat & (phi <= 0.0)
+    if worthless.any():
+        flags.append(Flag("note", "heat_no_work_value", "heat_temperature", name,
+                          f"{name.upper()}: its heat is no warmer than the "
+                          + ("dead state" if site.heat_to_work == "exergy" else "turbine's condenser")
+                          + " and is counted as worth no work", worthless))
+    if site.heat_to_work != "exergy" and uses_heat.any():
+        flags.append(Flag("note", "efficiency_basis", "second_law_efficiency", name,
+                          f"{name.upper()}: second-law efficiency values heat by its exergy at the dead state; the "
+                          "work equivalent shown is the turbine's lost work", uses_heat))
     too_cold = uses_heat & (Th > site.heat_temperature + 1e-9)
     if too_cold.any():
         flags.append(Flag("infeasible", "heat_temperature", "heat_temperature", name,
@@ -253,6 +268,7 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
 
     e_y, q_y, wq_y, lw_y = per_case(e), per_case(q), per_case(work_heat), per_case(lw)
     we_y = e_y + wq_y
+    ex_y = e_y + per_case(exergy_heat)
     if costs is None:
         capital = np.broadcast_to(np.asarray(capital_cost, dtype=float), (n,)) * site.capacity * 86400.0
         om_share = np.broadcast_to(np.asarray(fixed_om, dtype=float), (n,))
@@ -265,7 +281,7 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     with np.errstate(invalid="ignore", divide="ignore"):
         design = {
             "electricity": e_y, "heat": q_y, "work_equivalent": we_y, "work_equivalent_of_heat": wq_y,
-            "second_law_efficiency": lw_y / we_y, "power": e_y * site.capacity, "heat_power": q_y * site.capacity,
+            "second_law_efficiency": lw_y / ex_y, "power": e_y * site.capacity, "heat_power": q_y * site.capacity,
             "annual_electricity": e_y * site.annual_production, "annual_heat": q_y * site.annual_production,
             "emissions": emissions, "annual_emissions": emissions * site.annual_production,
             "levelized_cost": cost["total"], "cost_capital": cost["capital"], "cost_fixed_om": cost["fixed_om"],

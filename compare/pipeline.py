@@ -95,9 +95,14 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
     capacity = case(get("site.capacity"))
     custom_t0 = ("energy.dead_state_temperature" in varied
                  or scenario.texts.get("energy.dead_state_temperature") != FEED_TEMPERATURE)
+    # One dead state for the least work and the value of heat. It is never warmer than the feed: the plants reject
+    # their heat to the feed water, so a warmer dead state would count that cold sink's own exergy as free and let
+    # an efficiency pass 1.
+    T0_given = grid(get("energy.dead_state_temperature")) if custom_t0 else T
+    T0 = np.minimum(T0_given, T)
     site = acc.Site(
         weights=weights, heat_temperature=grid(get("energy.heat_temperature")),
-        dead_state=grid(get("energy.dead_state_temperature")) if custom_t0 else T,
+        dead_state=T0,
         heat_to_work=scenario.values["energy"]["heat_to_work"],
         condenser_temperature=grid(get("energy.condenser_temperature")),
         turbine_efficiency=grid(get("energy.turbine_efficiency")), product_target=grid(get("product.salinity")),
@@ -108,14 +113,20 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         electricity_emissions=case(get("energy.electricity_emissions")),
         heat_emissions=case(get("energy.heat_emissions")))
 
-    fl = evaluate_floor(model, S_f, T, 0.0 * S_f)
+    fl = evaluate_floor(model, S_f, T, 0.0 * S_f, dead_state=T0 if custom_t0 else None)
+    warm = T0_given > T + 1e-9
+    floor_flags = list(fl.flags)
+    if warm.any():
+        floor_flags.append(Flag("note", "dead_state", "dead_state_temperature", model.name,
+                                "dead state warmer than the feed: the feed temperature is used (the plants reject heat "
+                                "to the feed water)", warm))
 
     def per_case(x):
         return np.sum(grid(x) * weights, axis=1)
 
     floor = FloorResult(per_case(fl.water_activity), per_case(fl.osmotic_pressure),
                         per_case(fl.least_work_zero_recovery), per_case(S_f), per_case(T), model.name,
-                        tuple(reduce_cases(fl.flags, (n, M), axis=1)))
+                        tuple(reduce_cases(floor_flags, (n, M), axis=1)))
 
     site_costs = costing.site_costs(get, case)
     feed = Feed(model, water, S_f, T, site.product_target, site.heat_temperature, grid(capacity[:, None]))

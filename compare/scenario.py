@@ -193,9 +193,19 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
 
     Raises :class:`InputErrors` with every problem found, each line prefixed with ``label``.
     """
-    errors: list[str] = text_errors(data, label)
-    if errors:
-        raise InputErrors(errors)
+    refused: list[tuple] = []
+    text_lines = text_errors(data, label, found=refused)
+    if text_lines:
+        # go on without the refused text, so that the file's other problems are reported too, each key once
+        data = _without(data, refused)
+        try:
+            resolve(data, label=label, path=path, sha256=sha256, overrides=overrides)
+            rest = []
+        except InputError as exc:
+            rest = list(getattr(exc, "messages", [str(exc)]))
+        said = [".".join(map(str, keys)) for keys, _ in refused]
+        raise InputErrors(text_lines + [e for e in rest if not _about(e, label, said)])
+    errors: list[str] = []
     specs = sections()
     data = {k: (dict(v) if isinstance(v, dict) else v) for k, v in data.items()}
     # a sub-table such as [fo.regenerator] becomes dotted keys of its section ("regenerator.max_pressure") where the
@@ -654,30 +664,61 @@ def load(path: str | Path, overrides: list[str] | tuple[str, ...] = ()) -> Scena
     return resolve(data, label=label, path=str(path), sha256=hashlib.sha256(raw).hexdigest(), overrides=overrides)
 
 
-def text_errors(data, label: str, where: str = "") -> list[str]:
+def _without(data: dict, refused: list[tuple]) -> dict:
+    """A copy of ``data`` without each refused entry (the entry holding refused text, or the refused key)."""
+    import copy
+
+    data = copy.deepcopy(data)
+    for keys, _ in refused:
+        node = data
+        for k in keys[:-1]:
+            if not isinstance(node.get(k), dict):
+                break
+            node = node[k]
+        else:
+            node.pop(keys[-1], None)
+            continue
+        node.pop(k, None)
+    return data
+
+
+def _about(line: str, label: str, said: list[str]) -> bool:
+    """Whether an error ``line`` concerns a key already refused (``said``: dotted key paths), or a required key that
+    went missing because it was."""
+    head = line[len(label) + 2:] if line.startswith(f"{label}: ") else line.removeprefix("--set ")
+    key = head.split(": ", 1)[0]
+    return any(p == key or p.startswith(key + ".") or key.startswith(p + ".") for p in said)
+
+
+def text_errors(data, label: str, where: str = "", found: list | None = None) -> list[str]:
     """One line per key or string value of a parsed file that holds a control character (an escape sequence, a line
-    break, a direction override): such text is refused rather than shown."""
+    break, a direction override): such text is refused rather than shown. ``found`` collects (key path, whether
+    the key itself is at fault) of each."""
     from .units import text_problem
 
     out: list[str] = []
 
-    stack = [(data, where)]
+    stack = [(data, where, ())]
     while stack and len(out) < 100:
-        node, path = stack.pop()
+        node, path, keys = stack.pop()
         if isinstance(node, dict):
             for k, v in node.items():
                 p = f"{path}.{k}" if path else str(k)
                 problem = text_problem(str(k))
                 if problem:
                     out.append(f"{label}: {p[:80]}: expected a key without control characters, got {problem}")
+                    if found is not None:
+                        found.append(((*keys, k), True))
                 else:
-                    stack.append((v, p))
+                    stack.append((v, p, (*keys, k)))
         elif isinstance(node, list):
-            stack.extend((v, f"{path}[{i}]") for i, v in enumerate(node))
+            stack.extend((v, f"{path}[{i}]", keys) for i, v in enumerate(node))
         elif isinstance(node, str):
             problem = text_problem(node)
             if problem:
                 out.append(f"{label}: {path[:80]}: expected text without control characters, got {problem}")
+                if found is not None:
+                    found.append((keys, False))
     return out
 
 

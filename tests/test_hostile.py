@@ -247,3 +247,58 @@ def test_a_file_name_with_escapes_is_shown_escaped(tmp_path, capsys):
     path.write_text(BASE + "[ro]\nnope = 1\n", encoding="utf-8")
     code, out, err = run(capsys, "check", str(path))
     assert code == 2 and "\\x1b" in one_clean_line(err)
+
+
+def test_report_html_shows_a_hostile_name_as_text(tmp_path, capsys, monkeypatch):
+    from compare.present import browser
+    monkeypatch.setattr(browser, "find", lambda: None)                      # the page itself, not its screenshot
+    monkeypatch.chdir(tmp_path)
+    name = '<script>alert(1)</script><img src=x onerror=alert(2)> & "quoted"'
+    Path("s.toml").write_text(BASE.replace("Hostile (fictional)", name.replace('"', '\\"'))
+                              + "[fo]\nenabled = false\n[med]\nenabled = false\n", encoding="utf-8")
+    code, out, err = run(capsys, "report", "s.toml", "--out", "runs")
+    assert code == 0, err
+    html = (next(Path("runs").iterdir()) / "report.html").read_text(encoding="utf-8")
+    assert "<script" not in html.lower() and "<img" not in html.lower()
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in html and "&amp;" in html
+
+
+# ------------------------------------------------------------------------------------ every row carries its flags
+def test_every_compare_row_and_sweep_case_carries_the_feed_flags(tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    salty = BASE.replace('"35 g/kg"', '"130 g/kg"') + "[ro]\nenabled = false\n[fo]\nenabled = false\n"
+    Path("s.toml").write_text(salty, encoding="utf-8")
+    code, out, err = run(capsys, "compare", "s.toml", "--no-save", "--format", "csv")
+    assert code == 0, err
+    rows = list(csv.DictReader(io.StringIO(out)))
+    assert rows and all("out_of_range:feed_salinity" in r["flags"] for r in rows)
+    code, out, err = run(capsys, "sweep", "s.toml", "--vary", "feed.salinity=100 g/kg,130 g/kg", "--cases", "csv",
+                         "--out", "runs", "--quiet")
+    assert code == 0, err
+    cases = list(csv.DictReader((next(Path("runs").iterdir()) / "cases.csv").open(encoding="utf-8")))
+    flagged = ["out_of_range:feed_salinity" in r["flags"] for r in cases]
+    assert any(flagged) and not all(flagged)        # the 130 g/kg cases (TEOS-10 is validated to 120 g/kg) only
+
+
+# ---------------------------------------------------------------------------------- one dead state, efficiency < 1
+DEAD_STATE_CASES = [
+    # MED with a dead state warmer than its feed and its heat: before, 1.41 (heat valued at 60 degC, least work at 20)
+    ("med", ["feed.salinity=100 g/kg", "feed.temperature=20 degC", "energy.dead_state_temperature=60 degC",
+             "med.top_brine_temperature=50 degC", "med.brine_salinity=115 g/kg"], "dead_state"),
+    # thermal FO priced by a 60 degC condenser's lost work, cold salty feed: before, 1.13
+    ("fo", ["fo.regeneration=thermal", "energy.heat_to_work=lost_work", "energy.condenser_temperature=60 degC",
+            "feed.temperature=5 degC", "feed.salinity=60 g/kg"], "efficiency_basis"),
+]
+
+
+@pytest.mark.parametrize("tech,sets,code", DEAD_STATE_CASES, ids=["med-warm-dead-state", "fo-lost-work"])
+def test_one_dead_state_keeps_efficiency_below_one(capsys, tech, sets, code):
+    import json
+    argv = ["compare", GULL, "--no-save", "--format", "json"]
+    for s in sets:
+        argv += ["--set", s]
+    rc, out, err = run(capsys, *argv)
+    assert rc == 0, err
+    rec = {r["technology"]: r for r in json.loads(out)["results"]}[tech]
+    assert rec["feasible"] and 0 < rec["second_law_efficiency"] < 1
+    assert code in {f["code"] for f in rec["flags"]}

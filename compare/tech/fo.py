@@ -392,6 +392,12 @@ def design_draw(a, area_design, pi_D, pi_F, steps, tol=1e-10, max_iter=60):
     return out
 
 
+def _flat_mask(mask, size: int) -> np.ndarray:
+    """A flag mask over ``size`` flattened cases: a scalar broadcast, or an array of that many values flattened."""
+    m = np.asarray(True if mask is None else mask, dtype=bool)
+    return np.broadcast_to(m.reshape(-1) if m.size == size else m, (size,))
+
+
 def evaluate(feed: Feed, p: FOParameters) -> Performance:
     """Forward osmosis with draw regeneration for every case (see the module notes)."""
     shape = case_shape(feed, p)
@@ -457,8 +463,9 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
         heat_T = np.full(size, np.nan)
         product = perf.product_salinity
         # the regenerator's own flags, where the exchanger worked (elsewhere it saw a stand-in feed)
-        flags += [f.within("fo", "FO regenerator: ").with_mask(
-                  np.broadcast_to(np.asarray(f.mask, dtype=bool), shape).ravel() & reached) for f in perf.flags]
+        # (its masks are over FO's flattened cases, or a scalar)
+        flags += [f.within("fo", "FO regenerator: ").with_mask(_flat_mask(f.mask, size) & reached)
+                  for f in perf.flags]
         d = perf.details
         details.update({
             "regenerator_recovery": r_ro, "regenerator_feed_pressure": d["feed_pressure"].ravel(),

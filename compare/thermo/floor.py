@@ -87,9 +87,30 @@ def least_work_per_kg(model: ActivityModel, S_f, T, r, S_p=0.0):
     return w
 
 
-def least_work(model: ActivityModel, S_f, T, r, S_p=0.0, water: str | None = None):
-    """Least work of separation per m^3 of product [J/m^3] (product density from :mod:`compare.thermo.brine`)."""
+#: temperature step [K] of the central difference that gives the entropy of separation
+_DT = 0.05
+
+
+def least_work(model: ActivityModel, S_f, T, r, S_p=0.0, water: str | None = None, dead_state=None):
+    """Least work of separation per m^3 of product [J/m^3] (product density from :mod:`compare.thermo.brine`).
+
+    All streams are at T. With a dead state T0 other than T (the environment the plant rejects heat to), the least
+    work is the change of the streams' flow exergy, dH - T0 dS, rather than their Gibbs energy dG = dH - T dS:
+
+        w(T0) = dG + (T - T0) dS,  dS = -d(dG)/dT,
+
+    the entropy of separation taken from dG by a central difference in T (step 0.05 K). At T0 = T it is dG.
+    The tests check it against TEOS-10's enthalpy and entropy (gsw) stream by stream.
+    """
     w = least_work_per_kg(model, S_f, T, r, S_p)
+    if dead_state is not None:
+        T0 = np.asarray(dead_state, dtype=float)
+        T_arr = np.asarray(T, dtype=float)
+        if np.any(T0 != T_arr):
+            hi = least_work_per_kg(model, S_f, T_arr + _DT, r, S_p)
+            lo = least_work_per_kg(model, S_f, T_arr - _DT, r, S_p)
+            dS = -(hi - lo) / (2 * _DT)
+            w = w + (T_arr - T0) * dS
     rho_p = _brine.density(np.asarray(S_p, dtype=float), T, water or model.water)
     return w * rho_p
 
@@ -107,14 +128,15 @@ class Floor(NamedTuple):
     flags: tuple                           # Flag: out of the model's validated range, simplification
 
 
-def evaluate_floor(model: ActivityModel, S_f, T, r, S_p=0.0) -> Floor:
-    """Water activity, osmotic pressures, brine salinity and least work for feed S_f [kg/kg] at T [K], recovery r."""
+def evaluate_floor(model: ActivityModel, S_f, T, r, S_p=0.0, dead_state=None) -> Floor:
+    """Water activity, osmotic pressures, brine salinity and least work for feed S_f [kg/kg] at T [K], recovery r
+    (least work against the dead state T0 [K] when given, see :func:`least_work`)."""
     S_f, T, r, S_p = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (S_f, T, r, S_p)))
     ln_aw = model.ln_aw(S_f, T)
     S_b = brine_salinity(S_f, r, S_p)
     ln_aw_b = model.ln_aw(S_b, T)
-    lw = least_work(model, S_f, T, r, S_p)
-    lw0 = least_work(model, S_f, T, np.zeros_like(r), S_p)
+    lw = least_work(model, S_f, T, r, S_p, dead_state=dead_state)
+    lw0 = least_work(model, S_f, T, np.zeros_like(r), S_p, dead_state=dead_state)
     flags = range_flags(model, S_f, T, "feed")
     flags += [f for f in range_flags(model, S_b, T, "brine") if f.code == "brine_salinity"]
     flags += simplification_flag(model)

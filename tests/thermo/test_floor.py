@@ -40,6 +40,25 @@ def test_least_work_against_gsw_gibbs_form(S_f, t, r, S_p):
     assert least_work(TEOS10, S_f, t + 273.15, r, S_p) == pytest.approx(ref, rel=1e-3)
 
 
+@pytest.mark.parametrize("S_f,t,t0,r", [(0.035, 30.0, 15.0, 0.5), (0.070, 45.0, 20.0, 0.3), (0.035, 25.0, 25.0, 0.4)])
+def test_least_work_against_a_colder_dead_state_is_the_flow_exergy_change(S_f, t, t0, r):
+    # library: gsw. With streams at t and the environment at t0, the least work is the change of flow exergy
+    # h - T0 s summed over the streams (Bejan 2016, flow exergy): w = x_p + (1/r - 1) x_b - x_f / r, with h and s from
+    # TEOS-10's Gibbs function (gsw.enthalpy_t_exact, gsw.entropy_from_t). The reference states cancel through the
+    # salt and water balances. Ours differentiates dG in T numerically (step 0.05 K): 1e-6.
+    import gsw
+    T0 = t0 + 273.15
+    S_b = S_f / (1 - r)
+    x = lambda s: gsw.enthalpy_t_exact(s * 1e3, t, 0) - T0 * gsw.entropy_from_t(s * 1e3, t, 0)  # noqa: E731
+    w = x(0.0) + (1 / r - 1) * x(S_b) - x(S_f) / r
+    from compare.thermo.brine import density
+    ours = least_work(TEOS10, S_f, t + 273.15, r, 0.0, dead_state=T0) / density(0.0, t + 273.15, "seawater")
+    assert ours == pytest.approx(w, rel=2e-6)
+    if t0 < t:       # the entropy term: a colder environment makes the separation cheaper (ideal limit: x T0/T)
+        assert ours < least_work_per_kg(TEOS10, S_f, t + 273.15, r)
+        assert ours / least_work_per_kg(TEOS10, S_f, t + 273.15, r) == pytest.approx(T0 / (t + 273.15), rel=0.03)
+
+
 @pytest.mark.parametrize("model", [TEOS10, PITZER, get_model("ideal", "seawater"), get_model("vant-hoff", "nacl")],
                          ids=lambda m: m.name)
 @pytest.mark.parametrize("r", [0.1, 0.5, 0.75])
