@@ -134,11 +134,17 @@ def evaluate_floor(model: ActivityModel, S_f, T, r, S_p=0.0, dead_state=None) ->
     S_f, T, r, S_p = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (S_f, T, r, S_p)))
     ln_aw = model.ln_aw(S_f, T)
     S_b = brine_salinity(S_f, r, S_p)
+    beyond = ~(S_b <= model.validity.max_salinity) | ~(S_f <= model.validity.max_salinity)
+    S_b = np.where(beyond, np.nan, S_b)         # beyond the model's reach nothing is computed (never extrapolated)
     ln_aw_b = model.ln_aw(S_b, T)
-    lw = least_work(model, S_f, T, r, S_p, dead_state=dead_state)
+    lw = np.where(beyond, np.nan, least_work(model, S_f, T, r, S_p, dead_state=dead_state))
     lw0 = least_work(model, S_f, T, np.zeros_like(r), S_p, dead_state=dead_state)
     flags = range_flags(model, S_f, T, "feed")
-    flags += [f for f in range_flags(model, S_b, T, "brine") if f.code == "brine_salinity"]
+    flags += [f for f in range_flags(model, np.where(beyond, np.inf, S_b), T, "brine") if f.code == "brine_salinity"]
+    if beyond.any():
+        flags.append(Flag("infeasible", "beyond_reach", "brine_salinity", model.name,
+                          f"brine beyond {model.validity.max_salinity * 1e3:.4g} g/kg, the reach of model "
+                          f"{model.name}: not computed", beyond))
     flags += simplification_flag(model)
     return Floor(ln_aw, np.exp(ln_aw), osmotic_pressure(ln_aw, T), S_b, osmotic_pressure(ln_aw_b, T), lw, lw0,
                  tuple(flags))

@@ -129,7 +129,9 @@ def test_floor_broadcasts_and_flags():
     by = {fl.code: fl.where(f.least_work.shape) for fl in f.flags}
     assert by["feed_salinity"].tolist() == [[False, False, True], [False, False, True]]
     assert by["brine_salinity"][1].tolist() == [False, True, True]
-    assert all(fl.kind == "out_of_range" and fl.model == "teos10" for fl in f.flags)
+    assert by["beyond_reach"].tolist() == [[False, False, False], [False, False, True]]   # 325 g/kg: not computed
+    assert np.isnan(f.least_work[1, 2]) and np.isfinite(f.least_work[0]).all()
+    assert all(fl.kind == "out_of_range" and fl.model == "teos10" for fl in f.flags if fl.code != "beyond_reach")
 
 
 def test_pitzer_nacl_least_work_against_phi_integral_closed_form():
@@ -176,3 +178,12 @@ def test_compiled_table_lookup_equals_the_numpy_one():
         floor._KERNEL[:] = kernel
     np.testing.assert_array_equal(compiled, plain)
     np.testing.assert_array_equal(small, plain[-8:])
+
+
+def test_floor_computes_nothing_beyond_the_models_reach():
+    # a salt balance past the reach (or past pure salt) gives NaN and an infeasible flag, never a negative pressure
+    f = evaluate_floor(TEOS10, np.array([0.035, 0.2, 0.625]), 298.15, np.array([0.5, 0.7, 0.0]))
+    assert f.brine_osmotic_pressure[0] > 0 and np.isnan(f.brine_osmotic_pressure[1:]).all()
+    assert np.isnan(f.least_work[1:]).all() and np.isfinite(f.least_work[0])
+    beyond = [fl for fl in f.flags if fl.code == "beyond_reach"]
+    assert beyond[0].kind == "infeasible" and beyond[0].where((3,)).tolist() == [False, True, True]
