@@ -68,6 +68,8 @@ P_SEARCH_MAX = 400e5           # [Pa] upper end of the feed-pressure search
 S_CAP = 0.34                   # [kg/kg] wall salinities are capped here (inside the osmotic table) during the search
 CORRECTOR_TOL = 1e-3           # march: a step's end is settled when it moves by less than this share of the step
 CORRECTOR_PASSES = 60          # march: at most this many corrector passes per step
+FLUX_RTOL = 1e-10              # local flux: Newton steps stop below this share of the flux (then ~1e-20: quadratic)
+SECANT_FROM = 1e-3             # pressure search: secant slopes once the trial before is this close (|g|)
 GRADING = 3.0                  # march: permeate steps shrink towards the outlet as (1 - t)^GRADING
 
 
@@ -146,35 +148,67 @@ def temperature_factor(T):
     return np.exp(TEMPERATURE_EXPONENT * (1 / 298.15 - 1 / np.asarray(T, dtype=float)))
 
 
-def local_flux(dP, S_b, T, A, B, k, pi, J0=None, iterations=4):
+def _value_and_slope(pi):
+    """``pi``'s osmotic pressure with its slope in S: the table's own, else a central difference."""
+    own = getattr(pi, "value_and_slope", None)
+    if own is not None:
+        return own
+
+    def both(S, T):
+        h = np.maximum(1e-7 * np.abs(S), 1e-12)
+        return pi(S, T), (pi(S + h, T) - pi(np.maximum(S - h, 0.0), T)) / (h + np.minimum(h, S))
+    return both
+
+
+def local_flux(dP, S_b, T, A, B, k, pi, J0=None, iterations=8, slope=False):
     """Water flux J_w [m/s] and permeate salinity [kg/kg] at applied pressure difference dP [Pa] over a bulk of
-    salinity S_b, solved by Newton's method (finite-difference slope), vectorised.
+    salinity S_b, solved by Newton's method with the residual's analytic slope (the film model's derivatives and
+    the osmotic-pressure table's own slope), vectorised, until every case's step is below :data:`FLUX_RTOL` of
+    its flux (at most ``iterations``). With ``slope``, also dJ_w/d(dP) [m/s/Pa] at the solution,
+    A over the residual's slope (0 where there is no flux), for the march's sensitivity to the feed pressure.
 
     ``pi(S, T)`` gives the osmotic pressure [Pa]; ``k = inf`` means no polarisation, ``B = 0`` full rejection.
     Where the driving force is not positive the flux is 0. ``J0`` is a starting value (the previous step's flux).
     """
     S_b = np.minimum(S_b, S_CAP)
+    both = _value_and_slope(pi)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         inv_k = np.where(np.isinf(k), 0.0, 1.0 / k)
 
         def resid(J):
-            cp = np.exp(np.minimum(J * inv_k, 30.0))
-            f = B / (J + B + 1e-300)                        # S_p = f S_m
-            S_m = np.minimum(S_b * cp / (1 - f + f * cp), S_CAP)
+            """Residual, its slope in J and the permeate salinity at flux J."""
+            e = J * inv_k
+            cp = np.exp(np.minimum(e, 30.0))
+            dcp = np.where(e < 30.0, cp * inv_k, 0.0)
+            JB = J + B + 1e-300
+            f = B / JB                                      # S_p = f S_m
+            df = -f / JB
+            D = 1 - f + f * cp
+            S_m = S_b * cp / D
+            dS_m = np.where(S_m < S_CAP, S_b * (dcp * D - cp * (df * (cp - 1) + f * dcp)) / (D * D), 0.0)
+            S_m = np.minimum(S_m, S_CAP)
             S_p = f * S_m
-            return J - A * (dP - pi(S_m, T) + pi(S_p, T)), S_p
+            pm, dpm = both(S_m, T)
+            pp, dpp = both(S_p, T)
+            return J - A * (dP - pm + pp), 1 + A * (dpm * dS_m - dpp * (df * S_m + f * dS_m)), S_p
 
         ndp0 = dP - pi(S_b, T)
         J = np.maximum(A * ndp0, 0.0) if J0 is None else np.minimum(J0, np.maximum(A * ndp0, 0.0))
         J = np.maximum(J, 1e-13)
         for _ in range(iterations):
-            r, _ = resid(J)
-            h = np.maximum(1e-7 * J, 1e-14)
-            d = (resid(J + h)[0] - r) / h
-            J = np.maximum(J - r / np.where(d > 0, d, 1.0), 1e-13)
-        r, S_p = resid(J)
+            r, d, _ = resid(J)
+            J_new = np.maximum(J - r / np.where(d > 0, d, 1.0), 1e-13)
+            settled = not (np.abs(J_new - J) > FLUX_RTOL * J).any()
+            J = J_new
+            if settled:                    # every case's Newton step below the tolerance (quadratic: converged)
+                break
+        r, d, S_p = resid(J)
         off = ndp0 <= 0
-    return np.where(off, 0.0, J), np.where(off, S_b, S_p)
+        J = np.where(off, 0.0, J)
+        S_p = np.where(off, S_b, S_p)
+        if slope:
+            return J, S_p, np.where(off | ~(d > 0), 0.0, A / d)
+    return J, S_p
 
 
 def _log_mean_inverse(J0, J1):
@@ -196,10 +230,11 @@ def _step_salt(dm, J0, J1, Sp0, Sp1, B):
     return np.where(B > 0, out, 0.0)
 
 
-def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressure, x_end):
-    """Corrector of one march step (see :func:`_march`): the step's end x1 with the flux J1 and permeate Sp1 at the
-    pressure where it lies. ``x1``, ``J1``, ``Sp1`` come from the predictor's trial at ``x_pred``."""
-    x1, J1, Sp1 = x1.copy(), J1.copy(), Sp1.copy()
+def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, a1, dm, scale, salt, Q, c, pi, pressure, x_end):
+    """Corrector of one march step (see :func:`_march`): the step's end x1 with the flux J1, permeate Sp1 and flux
+    slope a1 = dJ/dP at the pressure where it lies. ``x1``, ``J1``, ``Sp1``, ``a1`` come from the predictor's
+    trial at ``x_pred``."""
+    x1, J1, Sp1, a1 = x1.copy(), J1.copy(), Sp1.copy(), a1.copy()
     n = x.size
     lo, F_lo = x.copy(), np.full(n, np.nan)
     hi, F_hi = np.full(n, np.inf), np.full(n, np.nan)
@@ -214,7 +249,7 @@ def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressur
         moving = np.flatnonzero(~(np.isfinite(x1) & (c["A"] * dP <= CORRECTOR_TOL * J1))
                                 & np.isfinite(x) & (J0 > 0))      # a march that has failed stays failed
     if moving.size == 0:
-        return x1, J1, Sp1
+        return x1, J1, Sp1, a1
     for _ in range(CORRECTOR_PASSES + 1):
         xm, fm = trial[moving], x1[moving]
         span = np.where(np.isfinite(fm), fm, xm) - x[moving]
@@ -259,7 +294,8 @@ def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressur
         P1m, _ = pressure(np.minimum(xt, x_end), moving)
         S_b1m = (salt[moving] - _step_salt(dm[moving], J0[moving], J1[moving], Sp0[moving], Sp1[moving],
                                            cm["B"])) / (Q[moving] - dm[moving])
-        J1m, Sp1m = local_flux(P1m, S_b1m, cm["T"], cm["A"], cm["B"], cm["k"], pi, np.maximum(J1[moving], 1e-13))
+        J1m, Sp1m, a1[moving] = local_flux(P1m, S_b1m, cm["T"], cm["A"], cm["B"], cm["k"], pi,
+                                           np.maximum(J1[moving], 1e-13), slope=True)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             x1[moving] = x[moving] + dm[moving] * scale[moving] * _log_mean_inverse(J0[moving], J1m)
         J1[moving], Sp1[moving] = J1m, Sp1m
@@ -267,7 +303,16 @@ def _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressur
     # and no fixed point was seen above the last lower point, the step cannot be completed
     if moving.size:
         x1[moving] = np.where(np.isfinite(zero[moving]) & ~np.isfinite(hi[moving]), np.inf, x1[moving])
-    return x1, J1, Sp1
+    return x1, J1, Sp1, a1
+
+
+def _log_mean_slopes(J0, J1, lm):
+    """Derivatives of the log-mean of 1/J, ``lm`` = :func:`_log_mean_inverse` (J0, J1), in J0 and in J1."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        near = np.abs(J1 / J0 - 1) < 1e-6
+        diff = J0 - J1
+        half = -0.5 * lm * lm
+        return np.where(near, half, (1 / J0 - lm) / diff), np.where(near, half, (lm - 1 / J1) / diff)
 
 
 def _march(P_feed, c, shares, n_seg, full=False):
@@ -276,7 +321,9 @@ def _march(P_feed, c, shares, n_seg, full=False):
 
     Returns ``x``, the area needed as a fraction of the design area (inf where the driving force vanishes first) and,
     with ``full``, the rest of the profile: permeate salt, brine salinity and pressure, per-stage permeate and salt,
-    and the lead element's average flux.
+    the lead element's average flux, and ``dx_dP``, the sensitivity of x to the feed pressure [1/Pa], carried along
+    the march (each step's log-mean area with the local fluxes' slopes, dJ/dP = A / (residual's slope), and the
+    pressure drop over the step's own area; the salt passed is held), for Newton's method on the feed pressure.
     """
     n_st = len(shares)
     cum = np.cumsum((0.0,) + tuple(shares))
@@ -287,8 +334,10 @@ def _march(P_feed, c, shares, n_seg, full=False):
     scale = c["v_p"] / c["area_per_feed"]          # area fraction per kg of permeate at unit flux
 
     def pressure(x, idx=slice(None)):
-        s = np.clip(np.searchsorted(cum, x, side="right") - 1, 0, n_st - 1)
-        frac = np.clip((x - cum[s]) / share[s], 0.0, 1.0)
+        if n_st == 1:                               # (the same arithmetic, without the stage lookup)
+            return P_feed[idx] - drop_stage[idx] * np.minimum(np.maximum(x, 0.0), 1.0), 0
+        s = np.minimum(np.maximum(np.searchsorted(cum, x, side="right") - 1, 0), n_st - 1)
+        frac = np.minimum(np.maximum((x - cum[s]) / share[s], 0.0), 1.0)
         return P_feed[idx] - drop_stage[idx] * (s + frac) + boost[idx] * s, s
 
     steps = n_seg * n_st
@@ -298,8 +347,10 @@ def _march(P_feed, c, shares, n_seg, full=False):
     Q = np.ones_like(P_feed)
     salt = c["S_in"].copy()
     x = np.zeros_like(P_feed)
-    J0, Sp0 = local_flux(P_feed, salt, T, A, B, k, pi, iterations=8)
+    J0, Sp0, dJ0 = local_flux(P_feed, salt, T, A, B, k, pi, iterations=12, slope=True)
     trend = np.zeros_like(P_feed)                 # dJ/dm of the last step (for the predictor)
+    y = np.zeros_like(P_feed)                     # dx/dP_feed
+    rate = drop_stage / share[:, None] if n_st > 1 else drop_stage[None, :]    # dP/dx inside each stage
     if full:
         xs, ms, cs = [x], [np.zeros_like(P_feed)], [np.zeros_like(P_feed)]
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
@@ -310,7 +361,7 @@ def _march(P_feed, c, shares, n_seg, full=False):
             x_pred = np.minimum(x + dm * scale * _log_mean_inverse(J0, J_guess), cum[-1])
             P1, _ = pressure(x_pred)
             S_b1 = (salt - dm * Sp0) / (Q - dm)
-            J1, Sp1 = local_flux(P1, S_b1, T, A, B, k, pi, J0)
+            J1, Sp1, a1 = local_flux(P1, S_b1, T, A, B, k, pi, J0, slope=True)
             x1 = x + dm * scale * _log_mean_inverse(J0, J1)
             # corrector: the flux at the end is that of the pressure where the step really ends (further along
             # where the flux collapses near the restriction): x1 = f(x1), f(x) = x0 + dm scale LM(J0, J1(x)), an
@@ -319,8 +370,20 @@ def _march(P_feed, c, shares, n_seg, full=False):
             # is seen, and the nearest point of zero flux; trials are false position inside a bracket, else a
             # fixed-point step (halfway to the zero-flux point if it would pass it); no fixed point before the flux
             # vanishes means the step cannot be completed (x1 = inf). Only the cases still moving are solved.
-            x1, J1, Sp1 = _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, dm, scale, salt, Q, c, pi, pressure,
-                                   cum[-1])
+            x1, J1, Sp1, a1 = _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, a1, dm, scale, salt, Q, c, pi, pressure,
+                                       cum[-1])
+            if full:
+                # sensitivity: y1 = y0 + K (L0 dJ0/dP + L1 a1 (1 - d1 y1)), d1 the pressure's slope in x at x1
+                K = dm * scale
+                L0, L1 = _log_mean_slopes(J0, J1, _log_mean_inverse(J0, J1))
+                if n_st > 1:
+                    s1 = np.clip(np.searchsorted(cum, x1, side="right") - 1, 0, n_st - 1)
+                    d1 = np.where(x1 < cum[-1], np.take_along_axis(rate, s1[None, :], 0)[0], 0.0)
+                else:
+                    d1 = np.where(x1 < cum[-1], rate[0], 0.0)
+                KLa = K * L1 * a1
+                y = (y + K * L0 * dJ0 + KLa) / (1 + KLa * d1)
+                dJ0 = a1 * (1 - d1 * y)
             with np.errstate(invalid="ignore"):
                 trend = np.where(np.isfinite(x1), np.minimum((J1 - J0) / dm, 0.0), 0.0)
             x = x1
@@ -345,7 +408,7 @@ def _march(P_feed, c, shares, n_seg, full=False):
     x_lead = share[0] / c["n_elem"]
     lead = _along(xs, ms, np.full_like(x, x_lead)) * c["v_p"] / (x_lead * c["area_per_feed"])
     return dict(x=x, perm_salt=perm_salt, S_b=salt / Q, P_b=P_b, st_perm=st_perm, st_salt=st_salt, lead=lead,
-                J_out=J0, Sp_out=Sp0)
+                J_out=J0, Sp_out=Sp0, dx_dP=y)
 
 
 def _along(xs, ys, x_target):
@@ -364,60 +427,117 @@ def _g(x):
         return np.where(np.isfinite(x), 1.0 / x, 0.0) - 1.0
 
 
-def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60):
+#: Gauss-Legendre nodes and weights on [0, 1] for the first guess of the feed pressure
+_NODES, _WEIGHTS = (lambda t, w: (0.5 * (t + 1), 0.5 * w))(*np.polynomial.legendre.leggauss(6))
+
+
+def first_guess(c, shares):
+    """A first guess of the feed pressure [Pa] from the brine's osmotic pressure along the recovery and the flux's
+    hydraulic term, without a march. With full rejection the bulk salinity at permeate m is S_in / (1 - m); the
+    pressure falls along the stages with the area taken in proportion to the permeate; at six Gauss points the
+    local flux solves J = A (P - drop - Pi_b exp(J / k)) (film model, Newton from above, where the convex residual
+    is positive); the design asks the harmonic mean of the local fluxes over the permeate to be J_avg, solved for P
+    by Newton's method with each point's dJ/dP = A / (1 + A Pi_b exp(J / k) / k)."""
+    cum = np.cumsum((0.0,) + tuple(shares))
+    n_st = len(shares)
+    t = _NODES[None, :]
+    S = c["S_in"][:, None] / (1 - c["r"][:, None] * t)
+    T = np.broadcast_to(c["T"][:, None], S.shape)
+    inv_k = np.where(np.isinf(c["k"]), 0.0, 1.0 / c["k"])[:, None]
+    A, J_avg = c["A"][:, None], c["J_avg"][:, None]
+    s = np.clip(np.searchsorted(cum, t, side="right") - 1, 0, n_st - 1)
+    frac = (t - cum[s]) / np.asarray(shares)[s]
+    drop = (c["n_elem"] * c["dp_elem"])[:, None] * (s + frac) - c["boost"][:, None] * s
+    pi_b = c["pi"](np.minimum(S, S_CAP), T)
+    base = pi_b + drop                                   # the local flux vanishes at P = base
+    P = np.max(pi_b * np.exp(np.minimum(J_avg * inv_k, 30.0)) + drop, axis=1, keepdims=True) + J_avg / A
+    J = np.maximum(A * (P - base), 1e-6 * J_avg)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        for _ in range(6):
+            for _ in range(3):
+                e = pi_b * np.exp(np.minimum(J * inv_k, 30.0))
+                d = 1 + A * e * inv_k
+                J = np.maximum(J - (J - A * (P - drop - e)) / d, 1e-6 * J_avg)
+            dJ = A / d
+            q = (_WEIGHTS / J).sum(axis=1, keepdims=True)
+            H = 1.0 / q
+            dH = H * H * (_WEIGHTS * dJ / (J * J)).sum(axis=1, keepdims=True)
+            P_new = np.maximum(P - (H - J_avg) / dH, np.max(base, axis=1, keepdims=True))
+            J = np.maximum(J + dJ * (P_new - P), 1e-6 * J_avg)
+            P = P_new
+    return np.where(np.isfinite(P[:, 0]), P[:, 0], np.max(base, axis=1) + c["J_avg"] / c["A"])
+
+
+def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False):
     """Feed pressure [Pa] at which the needed membrane area equals the design area, for all cases at once.
-    Returns (P, reachable): reachable is False where no pressure up to :data:`P_SEARCH_MAX` suffices."""
+    Returns (P, reachable): reachable is False where no pressure up to :data:`P_SEARCH_MAX` suffices; with
+    ``profile``, also the march's profile at P (at :data:`P_SEARCH_MAX` where unreachable).
+
+    Newton's method on g(P) = 1/x - 1 (x the area needed over the design area; nearly linear in P, since the mean
+    flux is) with the slope the march carries, safeguarded by a bracket: a trial where the area suffices is the
+    upper end, one where it does not (or where the driving force vanishes first, g = -1) the lower; a Newton step
+    outside the bracket, or not shrinking to half the one before, bisects; without an upper end yet the trial
+    grows by half its margin over the feed's osmotic pressure. It starts from :func:`first_guess` (within a few
+    per cent), so most cases settle in three or four marches. A case settles when |g| < ``tol`` or the bracket is
+    narrower than 1e-12 of P (then P is its upper end: a design at the restriction, where x jumps from infinite to
+    below 1); cases leave the loop as they settle. Every trial march is a full one, so the profile of the accepted
+    trial is kept rather than marched again."""
     n = c["S_in"].size
     pi_in = c["pi"](c["S_in"], c["T"])
     lo = pi_in.copy()
-    f_lo = -np.ones(n)
-    # starting upper end: the full-rejection brine's osmotic pressure with polarisation, the mean flux's driving
-    # pressure and the pressure drops; widened towards P_SEARCH_MAX until the area suffices
-    pi_b = c["pi"](np.minimum(c["S_in"] / (1 - c["r"]), S_CAP), c["T"])
-    cp = np.exp(np.minimum(c["J_avg"] / c["k"], 5.0))
-    hi = np.minimum(pi_b * cp + 2 * c["J_avg"] / c["A"] + 3 * len(shares) * c["n_elem"] * c["dp_elem"] + 2e5,
-                    P_SEARCH_MAX)
-    f_hi = _g(_march(hi, c, shares, n_seg))
-    for _ in range(8):
-        short = f_hi <= 0
-        if not short.any():
-            break
-        lo = np.where(short, hi, lo)
-        f_lo = np.where(short, f_hi, f_lo)
-        hi_new = np.minimum(hi + 2 * (hi - pi_in), P_SEARCH_MAX)
-        idx = np.flatnonzero(short)
-        f_hi[idx] = _g(_march(hi_new[idx], take(c, idx), shares, n_seg))
-        hi = np.where(short, hi_new, hi)
-    reachable = f_hi > 0
-    P = hi.copy()
-    side = np.zeros(n)
-    plateau = np.zeros(n, dtype=bool)
-    active = np.flatnonzero(reachable)
+    hi = np.full(n, np.inf)
+    trial = np.clip(first_guess(c, shares), pi_in, P_SEARCH_MAX)
+    step_old = np.full(n, np.inf)
+    P_old, g_old = np.full(n, np.nan), np.full(n, np.nan)
+    P = np.full(n, np.nan)
+    reachable = np.zeros(n, dtype=bool)
+    prof = None
+    active = np.arange(n)
     for _ in range(max_iter):
         if active.size == 0:
             break
-        a_lo, a_hi, fl, fh = lo[active], hi[active], f_lo[active], f_hi[active]
-        Pa = a_hi - fh * (a_hi - a_lo) / np.where(fh != fl, fh - fl, 1.0)
-        # after a trial on the plateau of infinite area (driving force gone before the end), regula falsi has no
-        # slope to go on: bisect instead
-        Pa = np.where(plateau[active], 0.5 * (a_lo + a_hi), np.clip(Pa, a_lo, a_hi))
-        fP = _g(_march(Pa, take(c, active), shares, n_seg))
-        P[active] = Pa
-        upper = fP > 0
-        s = side[active]
-        fl = np.where(upper & (s == 1), fl / 2, fl)
-        fh = np.where(~upper & (s == -1), fh / 2, fh)
-        hi[active] = np.where(upper, Pa, a_hi)
-        f_hi[active] = np.where(upper, fP, fh)
-        lo[active] = np.where(~upper, Pa, a_lo)
-        f_lo[active] = np.where(~upper, fP, fl)
-        side[active] = np.where(upper, 1, -1)
-        plateau[active] = fP <= -1.0
-        narrow = (hi[active] - lo[active]) < 1e-12 * hi[active]
-        P[active[narrow]] = hi[active[narrow]]      # the side where the area suffices
-        active = active[~((np.abs(fP) < tol) | narrow)]
-    P[active] = hi[active]
-    return P, reachable
+        Pa = trial[active]
+        o = _march(Pa, take(c, active), shares, n_seg, full=True)
+        x, y = o["x"], o["dx_dP"]
+        g = _g(x)
+        upper = g > 0
+        conv = np.abs(g) < tol
+        top = (Pa >= P_SEARCH_MAX) & ~upper & ~conv
+        keep = np.flatnonzero(upper | conv | top)
+        if prof is None:
+            prof = {key: np.full((n,) + v.shape[:-1], np.nan) if v.ndim > 1 else np.full(n, np.nan)
+                    for key, v in o.items()}
+        for key, v in o.items():
+            prof[key][active[keep]] = v[keep] if v.ndim == 1 else v[:, keep].T
+        P[active[keep]] = Pa[keep]
+        reachable[active[keep]] = (upper | conv)[keep]
+        lo_a = np.where(upper, lo[active], Pa)
+        hi_a = np.where(upper, Pa, hi[active])
+        lo[active], hi[active] = lo_a, hi_a
+        narrow = np.isfinite(hi_a) & (hi_a - lo_a <= 1e-12 * hi_a)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            # the slope: the secant through the last two trials once there are two on the smooth part (the
+            # march's own slope is within about 0.5 % of it; the secant's superlinear order saves a march),
+            # else the march's, g' = -x'/x^2
+            secant = (g - g_old[active]) / (Pa - P_old[active])
+            use = np.isfinite(secant) & (secant > 0) & np.isfinite(x) & (np.abs(g_old[active]) < SECANT_FROM)
+            slope = np.where(use, secant, -y / (x * x))
+            newton = Pa - g / slope
+            step = np.abs(newton - Pa)
+            good = np.isfinite(x) & (slope > 0) & (newton > lo_a) & (newton < hi_a) & (step < 0.5 * step_old[active])
+        known = np.isfinite(hi_a)
+        fallback = np.where(known, 0.5 * (lo_a + hi_a), Pa + 0.5 * (Pa - pi_in[active]))
+        nxt = np.minimum(np.where(good, newton, fallback), P_SEARCH_MAX)
+        step_old[active] = np.where(good, step, np.where(known, 0.5 * (hi_a - lo_a), np.inf))
+        P_old[active], g_old[active] = Pa, np.where(np.isfinite(x), g, np.nan)
+        trial[active] = nxt
+        active = active[~(conv | narrow | top)]
+    # unsettled after every trial: the upper end where one was found (its profile is the one kept)
+    if active.size:
+        P[active] = np.where(np.isfinite(hi[active]), hi[active], np.nan)
+    if prof is not None:
+        prof["st_perm"], prof["st_salt"] = prof["st_perm"].T, prof["st_salt"].T
+    return (P, reachable, prof) if profile else (P, reachable)
 
 
 def design_arrays(feed: Feed, p: ROParameters) -> dict:
@@ -458,9 +578,8 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
         idx = np.flatnonzero(stages == ns)
         ci = take(c, idx)
         shares = STAGE_SHARES[int(ns)]
-        Pi, ok = solve_feed_pressure(ci, shares, n_seg)
+        Pi, ok, out = solve_feed_pressure(ci, shares, n_seg, profile=True)
         P[idx], reachable[idx] = Pi, ok
-        out = _march(np.where(ok, Pi, P_SEARCH_MAX), ci, shares, n_seg, full=True)
         for key in prof:
             prof[key][idx] = out[key]
         st_perm[:ns, idx], st_salt[:ns, idx] = out["st_perm"], out["st_salt"]

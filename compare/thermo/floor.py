@@ -199,14 +199,15 @@ class OsmoticTable:
             S, T = np.broadcast_arrays(S, T)
         if S.ndim == 0:
             return self(S.reshape(1), T.reshape(1))[0]
-        if S.size >= _COMPILED_FROM or _KERNEL:
-            kernel = _compiled()                # once loaded (a sweep), small arrays use it too
-            if kernel is not None:
-                out = np.empty(S.shape)
-                kernel(np.ascontiguousarray(S).reshape(-1), np.ascontiguousarray(T).reshape(-1), self._coef,
-                       self._inv_du, self._inv_dt, self.T_MIN, self._fu_max, self._ft_max, self._cells_t,
-                       out.reshape(-1))
-                return out
+        kernel = _compiled() if S.size >= _COMPILED_FROM or _KERNEL else None   # once loaded, for every size
+        if kernel is None and S.size <= _PYTHON_UPTO:
+            kernel = _lookup                    # a few points: the same loop in Python beats numpy's call overheads
+        if kernel is not None:
+            out = np.empty(S.shape)
+            kernel(np.ascontiguousarray(S).reshape(-1), np.ascontiguousarray(T).reshape(-1), self._coef,
+                   self._inv_du, self._inv_dt, self.T_MIN, self._fu_max, self._ft_max, self._cells_t,
+                   out.reshape(-1))
+            return out
         fu = np.sqrt(np.maximum(S, 0.0))
         fu *= self._inv_du
         np.fmin(np.fmax(fu, 0.0, out=fu), self._fu_max, out=fu)        # fmax/fmin send NaN to the bound
@@ -228,6 +229,52 @@ class OsmoticTable:
         val *= S
         return val
 
+    def value_and_slope(self, S, T):
+        """Osmotic pressure [Pa] and its slope dPi/dS [Pa per kg/kg] of the table's bilinear form at S [kg/kg] and
+        T [K] (arrays of one shape, at least 1-D), for Newton iterations on the table. Edges as :meth:`__call__`;
+        at and beyond the edge of sqrt(S) the slope is that of Pi = S y (y held). The same operations in the same
+        order as the compiled kernel, so both give the same values."""
+        S = np.asarray(S, dtype=float)
+        T = np.asarray(T, dtype=float)
+        if S.shape != T.shape:
+            S, T = np.broadcast_arrays(S, T)
+        kernel = _KERNEL[1] if (S.size >= _COMPILED_FROM or _KERNEL) and _compiled() is not None else None
+        if kernel is None and S.size <= _PYTHON_UPTO:
+            kernel = _lookup_slope
+        if kernel is not None:
+            val, slope = np.empty(S.shape), np.empty(S.shape)
+            kernel(np.ascontiguousarray(S).reshape(-1), np.ascontiguousarray(T).reshape(-1), self._coef,
+                       self._inv_du, self._inv_dt, self.T_MIN, self._fu_max, self._ft_max, self._cells_t,
+                       val.reshape(-1), slope.reshape(-1))
+            return val, slope
+        root = np.sqrt(np.fmax(S, 0.0))                # fmax sends NaN to 0, as the kernel does
+        fu = root * self._inv_du
+        inside = fu < self._fu_max
+        np.fmin(np.fmax(fu, 0.0, out=fu), self._fu_max, out=fu)
+        ft = T - self.T_MIN
+        ft *= self._inv_dt
+        np.fmin(np.fmax(ft, 0.0, out=ft), self._ft_max, out=ft)
+        i = fu.astype(np.intp)
+        j = ft.astype(np.intp)
+        fu -= i
+        ft -= j
+        i *= self._cells_t
+        i += j
+        c = self._coef[i]
+        y = c[..., 3] * fu
+        y += c[..., 2]
+        y *= ft
+        y += c[..., 1] * fu
+        y += c[..., 0]
+        dy = c[..., 3] * ft
+        dy += c[..., 1]
+        dy *= root
+        dy *= 0.5 * self._inv_du
+        dy *= inside
+        dy += y
+        y *= S
+        return y, dy
+
     def outside(self, S, T) -> np.ndarray:
         """True where (S [kg/kg], T [K]) lies outside the table (the nearest edge is used there)."""
         S, T = np.asarray(S, dtype=float), np.asarray(T, dtype=float)
@@ -246,6 +293,10 @@ class OsmoticTable:
 #: arrays at least this large load the compiled lookup when numba is installed; once loaded it serves every size
 #: (smaller arrays alone never import numba, so that a single comparison does not pay its import)
 _COMPILED_FROM = 4096
+#: arrays of at most this many points (without the compiled lookup) take the same loop in plain Python: a numpy
+#: lookup costs about 20 us whatever its size, the loop about 2 us a point; the same operations in the same order
+#: give the same values (tested)
+_PYTHON_UPTO = 8
 
 
 def _lookup(S, T, coef, inv_du, inv_dt, t_min, fu_max, ft_max, cells_t, out):  # pragma: no cover - compiled
@@ -270,15 +321,45 @@ def _lookup(S, T, coef, inv_du, inv_dt, t_min, fu_max, ft_max, cells_t, out):  #
     return out
 
 
+def _lookup_slope(S, T, coef, inv_du, inv_dt, t_min, fu_max, ft_max, cells_t, out, slope):  # pragma: no cover
+    """:meth:`OsmoticTable.value_and_slope` point by point, the same operations in the same order (compiled)."""
+    half = 0.5 * inv_du
+    for k in range(S.size):
+        s = S[k]
+        root = np.sqrt(s) if s > 0.0 else 0.0
+        u = root * inv_du
+        inside = 1.0 if u < fu_max else 0.0
+        if not u >= 0.0:
+            u = 0.0
+        if u > fu_max:
+            u = fu_max
+        t = (T[k] - t_min) * inv_dt
+        if not t >= 0.0:                       # also NaN
+            t = 0.0
+        if t > ft_max:
+            t = ft_max
+        i = int(u)
+        j = int(t)
+        a = u - i
+        b = t - j
+        r = i * cells_t + j
+        y = ((coef[r, 3] * a + coef[r, 2]) * b + coef[r, 1] * a) + coef[r, 0]
+        slope[k] = ((coef[r, 3] * b + coef[r, 1]) * root * half) * inside + y
+        out[k] = y * s
+    return out
+
+
 _KERNEL: list = []
 
 
 def _compiled():
-    """The lookup compiled by numba (``cache=True``: compiled once per machine), or None without numba."""
+    """The lookup compiled by numba (``cache=True``: compiled once per machine), or None without numba; with it,
+    ``_KERNEL[1]`` is the lookup with slope."""
     if not _KERNEL:
         try:
             import numba
-            _KERNEL.append(numba.njit(cache=True, nogil=True)(_lookup))
+            jit = numba.njit(cache=True, nogil=True)
+            _KERNEL.extend([jit(_lookup), jit(_lookup_slope)])
         except Exception:                      # noqa: BLE001 - numba absent or unusable: the numpy path serves
             _KERNEL.append(None)
     return _KERNEL[0]

@@ -256,3 +256,27 @@ def test_outlet_pressure_never_below_the_brine_osmotic_pressure():
         pi_b = osmotic_pressure(NACL.ln_aw(d["membrane_brine_salinity"], 295.15), 295.15)
         assert np.all(d["brine_pressure"] >= pi_b * (1 - 1e-9))
         assert np.any(d["brine_pressure"] < pi_b * 1.01)   # the premise: some designs sit at the restriction
+
+
+def test_feed_pressure_solve_matches_a_tight_bisection():
+    # numerics: Newton's method from the first guess (with the march's slope, then secants, in a bracket) gives the
+    # feed pressure that a plain bisection of the same march to 1e-13 gives (the least pressure at which the area
+    # suffices), within 1e-9, for seawater designs and brackish designs at and near the restriction
+    f, over = _random_designs(45, 5)
+    c = ro.design_arrays(f, params(**over))
+    at_restriction = 0
+    for ns in (1, 2, 3):
+        idx = np.flatnonzero(over["stages"] == ns)
+        ci = ro.take(c, idx)
+        shares = ro.STAGE_SHARES[ns]
+        P, ok = ro.solve_feed_pressure(ci, shares, 20)
+        assert ok.all()
+        lo, hi = ci["pi"](ci["S_in"], ci["T"]), 1.2 * P
+        assert np.all(ro._march(hi, ci, shares, 20) <= 1)
+        for _ in range(60):
+            mid = 0.5 * (lo + hi)
+            enough = ro._march(mid, ci, shares, 20) <= 1
+            lo, hi = np.where(enough, lo, mid), np.where(enough, mid, hi)
+        assert P == pytest.approx(hi, rel=1e-9)
+        at_restriction += int((ro._march(P, ci, shares, 20) < 1 - 1e-6).sum())
+    assert at_restriction >= 3                              # the premise: some sit at the restriction

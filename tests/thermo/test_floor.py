@@ -187,3 +187,59 @@ def test_floor_computes_nothing_beyond_the_models_reach():
     assert np.isnan(f.least_work[1:]).all() and np.isfinite(f.least_work[0])
     beyond = [fl for fl in f.flags if fl.code == "beyond_reach"]
     assert beyond[0].kind == "infeasible" and beyond[0].where((3,)).tolist() == [False, True, True]
+
+
+def test_table_slope_is_the_derivative_of_its_values():
+    # identity: value_and_slope gives the table's own values and, inside a cell, the derivative of its bilinear
+    # form in S (central differences within the cell); the compiled kernel gives the numpy path's values exactly
+    from compare.thermo import floor
+    from compare.thermo.activity import get_model
+    tab = floor.osmotic_table(get_model("teos10", "seawater"))
+    rng = np.random.default_rng(5)
+    S = np.concatenate([rng.uniform(0.001, 0.3, 3000), [np.nan, -0.01, 0.0, 0.5, np.inf, 0.035]])
+    T = np.concatenate([rng.uniform(275.0, 420.0, 3000), [300.0, 300.0, 300.0, 300.0, 300.0, np.nan]])
+    with np.errstate(invalid="ignore"):                         # inf x 0 in the slope at S = inf
+        val, slope = tab.value_and_slope(S, T)
+    np.testing.assert_array_equal(val, tab(S, T))
+    h = 1e-9 * S[:3000]
+    fd = (tab(S[:3000] + h, T[:3000]) - tab(S[:3000] - h, T[:3000])) / (2 * h)
+    same_cell = (np.floor(np.sqrt(S[:3000] + h) / tab.du) == np.floor(np.sqrt(S[:3000] - h) / tab.du))
+    assert same_cell.mean() > 0.99
+    assert slope[:3000][same_cell] == pytest.approx(fd[same_cell], rel=1e-5)
+    assert slope[-3] == pytest.approx(val[-3] / 0.5)              # beyond the grid: Pi = S y(edge)
+    # a few points at a time take the same loop in plain Python: the same values as the numpy path, edges included
+    saved, kernel, upto = floor._COMPILED_FROM, list(floor._KERNEL), floor._PYTHON_UPTO
+    try:
+        floor._KERNEL.clear()
+        floor._COMPILED_FROM = 10 ** 12
+        with np.errstate(invalid="ignore"):
+            loop = [(tab(S[i:i + 6], T[i:i + 6]), *tab.value_and_slope(S[i:i + 6], T[i:i + 6]))
+                    for i in (0, 6, S.size - 6)]
+            floor._PYTHON_UPTO = 0
+            plain = [(tab(S[i:i + 6], T[i:i + 6]), *tab.value_and_slope(S[i:i + 6], T[i:i + 6]))
+                     for i in (0, 6, S.size - 6)]
+    finally:
+        floor._COMPILED_FROM, floor._PYTHON_UPTO = saved, upto
+        floor._KERNEL[:] = kernel
+    for a, b in zip(loop, plain):
+        for u, v in zip(a, b):
+            np.testing.assert_array_equal(u, v)
+    try:
+        import numba  # noqa: F401
+    except ImportError:
+        return
+    saved, kernel = floor._COMPILED_FROM, list(floor._KERNEL)
+    try:
+        floor._KERNEL.clear()
+        floor._COMPILED_FROM = 10 ** 12
+        assert floor._KERNEL == []
+        with np.errstate(invalid="ignore"):
+            plain = tab.value_and_slope(S, T)
+            floor._COMPILED_FROM = 1
+            compiled = tab.value_and_slope(S, T)
+        assert floor._KERNEL and floor._KERNEL[0] is not None
+    finally:
+        floor._COMPILED_FROM = saved
+        floor._KERNEL[:] = kernel
+    np.testing.assert_array_equal(compiled[0], plain[0])
+    np.testing.assert_array_equal(compiled[1], plain[1])
