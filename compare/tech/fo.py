@@ -176,6 +176,23 @@ def _interfaces(J, c_D, c_F, B, inv_k, K):
     return Js, c_D * e_D - Js * b, c_F * e_F + Js * a
 
 
+def _interfaces_slope(J, c_D, c_F, B, inv_k, K):
+    """:func:`_interfaces` with the derivatives of the two interface salinities in J (for Newton's method)."""
+    Jc = np.maximum(J, 1e-30)
+    with np.errstate(over="ignore", invalid="ignore"):
+        a = np.where(inv_k > 0, np.expm1(np.minimum(Jc * inv_k, 50.0)) / Jc, 0.0)
+        b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)
+    e_F, e_D = 1.0 + Jc * a, 1.0 - Jc * b
+    da = (e_F * inv_k - a) / Jc                          # d/dJ of (e^{J/k} - 1)/J
+    db = (K * e_D - b) / Jc                              # d/dJ of (1 - e^{-J K})/J
+    M = 1.0 + B * (a + b)
+    N = c_D * e_D - c_F * e_F
+    Js = B * N / M
+    dJs = B * ((-c_D * K * e_D - c_F * inv_k * e_F) * M - N * B * (da + db)) / (M * M)
+    cDi, cFm = c_D * e_D - Js * b, c_F * e_F + Js * a
+    return Js, cDi, cFm, -c_D * K * e_D - dJs * b - Js * db, c_F * inv_k * e_F + dJs * a + Js * da
+
+
 def flux_residual(J, c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F):
     """Residual [m/s] of the local flux equation, J - A (Pi_D(c_D,i) - Pi_F(c_F,m)), at water flux J [m/s]
     (interfaces from :func:`local_flux`'s transport model). Zero at the solution."""
@@ -202,7 +219,8 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     With linear osmotic pressures (Pi = k_pi c for both) this is Tiraferri's closed form exactly; with our activity
     models only the last line is nonlinear. J_s < 0 would be a net forward flux of salt.
 
-    Solved by Newton's method (finite-difference slope) safeguarded by the bracket [0, A (Pi_D(c_D) - Pi_F(c_F))],
+    Solved by Newton's method (the residual's analytic slope, with the osmotic tables' own slopes) safeguarded by
+    the bracket [0, A (Pi_D(c_D) - Pi_F(c_F))],
     case by case until |J - A (...)| <= ``rtol`` (default :data:`FLUX_RTOL`) x the bracket's upper end; cases leave the loop as they converge.
     ``pi_D(c, T)`` and ``pi_F(c, T)`` give osmotic pressures [Pa]; ``k = inf`` means no external polarisation,
     ``S_struct = 0`` no internal polarisation, ``B = 0`` no salt passage. Where no positive flux solves the
@@ -218,6 +236,16 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     def resid(J, i):
         _, cDi, cFm = _interfaces(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
         return J - A[i] * (pi_D(np.clip(cDi, 0.0, S_CAP), T[i]) - pi_F(np.clip(cFm, 0.0, S_CAP), T[i]))
+
+    both_D, both_F = _ro._value_and_slope(pi_D), _ro._value_and_slope(pi_F)
+
+    def resid_slope(J, i):
+        _, cDi, cFm, dD, dF = _interfaces_slope(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
+        pD, sD = both_D(np.minimum(np.maximum(cDi, 0.0), S_CAP), T[i])
+        pF, sF = both_F(np.minimum(np.maximum(cFm, 0.0), S_CAP), T[i])
+        sD = np.where((cDi > 0) & (cDi < S_CAP), sD * dD, 0.0)
+        sF = np.where((cFm > 0) & (cFm < S_CAP), sF * dF, 0.0)
+        return J - A[i] * (pD - pF), 1.0 - A[i] * (sD - sF)
 
     rtol = FLUX_RTOL if rtol is None else rtol
     n = c_D.size
@@ -236,13 +264,11 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     while active.size and it < max_iter:
         it += 1
         Ja = J[active]
-        r = resid(Ja, active)
-        evaluations += 2
+        r, d = resid_slope(Ja, active)
+        evaluations += 1
         done = (np.abs(r) <= tol[active]) | (hi[active] - lo[active] <= 1e-15 * J_hi[active])
         lo[active] = np.where(r < 0, Ja, lo[active])
         hi[active] = np.where(r > 0, Ja, hi[active])
-        h = np.maximum(1e-7 * Ja, 1e-18)
-        d = (resid(Ja + h, active) - r) / h
         with np.errstate(divide="ignore", invalid="ignore"):
             step = Ja - r / np.where(d > 0, d, np.nan)
         la, ha = lo[active], hi[active]
@@ -347,46 +373,115 @@ def _search(x):
         return np.where(np.isfinite(x) & (x > 0), 1.0 / x, 0.0) - 1.0
 
 
+#: Gauss-Legendre nodes and weights on [0, 1] for the first guess of the draw
+_NODES, _WEIGHTS = _ro._NODES, _ro._WEIGHTS
+
+
+def draw_guess(a, area_design, pi_D, pi_F):
+    """A first guess of the draw outlet salinity u [kg/kg] of a design, and the slope of the search function in u
+    there [1/(kg/kg)], without a march. Salt passage is neglected, so at permeate fraction t from the feed inlet the
+    feed is S_f / (1 - r t) and the draw u (m + r) / (m + r (1 - t)); the local flux solves the closed form of
+    Tiraferri et al. (2011) for linear osmotic pressures, J + B (e^{J/k} - e^{-J K}) = A (Pi_D(c_D e^{-J K}) -
+    Pi_F(c_F e^{J/k})), each osmotic pressure taken on its tangent at the bulk salinity, by Newton's method
+    at six Gauss points; the design asks their harmonic mean over the permeate to be the design flux, solved for u
+    by Newton's method with each point's dJ/du, kept inside [0, :data:`DRAW_LIMIT`] by bisection (within about 1 %
+    of the march's u on seawater designs)."""
+    T, A, B, r, m = (a[x][:, None] for x in ("T", "A", "B", "r", "m_din"))
+    K = (a["S_struct"] / a["D"])[:, None]
+    inv_k = np.where(np.isinf(a["k"]), 0.0, 1.0 / a["k"])[:, None]
+    t = _NODES[None, :]
+    Tn = np.broadcast_to(T, (T.shape[0], t.size))
+    cF = np.minimum(a["S_f"][:, None] / (1 - r * t), S_CAP)
+    pF, sF = _ro._value_and_slope(pi_F)(cF, Tn)
+    w = (m + r) / (m + r * (1 - t))
+    J_design = (r / (a["rho"][:, None] * area_design[:, None]))[:, 0]
+    both = _ro._value_and_slope(pi_D)
+    n = J_design.size
+    lo, hi = np.zeros(n), np.full(n, DRAW_LIMIT)
+    u = np.full(n, 0.5 * DRAW_LIMIT)
+    slope = np.full(n, np.nan)
+    J = np.zeros(Tn.shape)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        for _ in range(12):
+            cD = np.minimum(u[:, None] * w, S_CAP)
+            pD, sD = both(cD, Tn)
+            # the residual is negative at J = 0 where the draw is the stronger, and positive at the ideal flux
+            J_lo, J_hi = np.zeros(J.shape), np.maximum(A * (pD - pF), 0.0)
+            J = np.where((J > 0) & (J < J_hi), J, 0.5 * J_hi)
+            for _ in range(6):
+                xD, xF = np.exp(-J * K), np.exp(np.minimum(J * inv_k, 50.0))
+                d = 1 + B * (xF * inv_k + K * xD) + A * (K * sD * cD * xD + sF * cF * xF * inv_k)
+                g = J + B * (xF - xD) - A * (pD + sD * cD * (xD - 1) - pF - sF * cF * (xF - 1))
+                J_lo, J_hi = np.where(g < 0, J, J_lo), np.where(g > 0, J, J_hi)
+                step = J - g / d
+                J = np.where((step > J_lo) & (step < J_hi), step, 0.5 * (J_lo + J_hi))
+            pull = np.all(J > 0, axis=1)
+            H = np.where(pull, 1.0 / np.sum(_WEIGHTS / np.where(J > 0, J, 1.0), axis=1), 0.0)
+            dH = H * H * np.sum(_WEIGHTS * A * sD * w * xD / d / np.where(J > 0, J * J, 1.0), axis=1)
+            f = H / J_design - 1
+            lo, hi = np.where(f < 0, u, lo), np.where(f >= 0, u, hi)
+            slope = dH / J_design
+            step = u - f / slope
+            u = np.where(pull & (slope > 0) & (step > lo) & (step < hi), step, 0.5 * (lo + hi))
+    return u, slope
+
+
 def design_draw(a, area_design, pi_D, pi_F, steps, tol=1e-10, max_iter=60):
     """Design: the draw outlet salinity u [kg/kg] at which the exchanger needs exactly ``area_design`` [m^2 per
-    kg/s of feed], by the Illinois variant of regula falsi on design area / area needed - 1 (an average flux ratio,
-    nearly linear in the draw), bracketed between the feed's osmotic equivalent and :data:`DRAW_LIMIT`, bisecting
-    after a trial where the flux vanishes; for all cases at once. Returns the march at the solution with ``u`` and
-    ``within``: False where even a draw leaving at the limit cannot reach the design flux."""
+    kg/s of feed], for all cases at once. Returns the march at the solution with ``u`` and ``within``: False where
+    even a draw leaving at :data:`DRAW_LIMIT` cannot reach the design flux.
+
+    The search function is f(u) = design area / area needed - 1 (an average flux ratio, increasing in the draw,
+    -1 where the flux vanishes before the recovery). From :func:`draw_guess`, a Newton step with the guess's slope,
+    then secant steps through the last two trials, inside a bracket that starts between the feed's osmotic
+    equivalent and the limit: a step that leaves the bracket or does not halve the last move bisects (or, before
+    any trial had enough area, moves halfway to the limit), a trial where the flux vanishes bisects, a case settles when |f| <= ``tol`` or the bracket is narrower than 1e-13 of u, and a trial at the limit
+    that still lacks area means the design is beyond it. The march returned is the last one on the feasible side."""
     n = a["S_f"].size
     lo = _equivalent_draw(a["S_f"], a["T"], pi_D, pi_F)
-    f_lo = -np.ones(n)
-    hi = np.full(n, DRAW_LIMIT)
-    top = _march(hi, a, pi_D, pi_F, steps)
-    f_hi = _search(top["area"] / area_design)
-    within = f_hi >= 0
-    out = {key: v.copy() for key, v in top.items()}
-    u = hi.copy()
-    side = np.zeros(n)
-    plateau = np.zeros(n, dtype=bool)
-    active = np.flatnonzero(within & (f_hi > tol))
+    hi = np.full(n, np.inf)
+    u0, slope0 = draw_guess(a, area_design, pi_D, pi_F)
+    trial = np.clip(u0, lo, DRAW_LIMIT)
+    u = np.full(n, DRAW_LIMIT)
+    within = np.ones(n, dtype=bool)
+    u_old, f_old = np.full(n, np.nan), np.full(n, np.nan)
+    span = np.full(n, np.inf)                    # the last move: a Newton step must halve it, else bisect
+    out = None
+    active = np.arange(n)
     for _ in range(max_iter):
         if active.size == 0:
             break
-        a_lo, a_hi, fl, fh = lo[active], hi[active], f_lo[active], f_hi[active]
-        trial = a_hi - fh * (a_hi - a_lo) / np.where(fh != fl, fh - fl, 1.0)
-        trial = np.where(plateau[active], 0.5 * (a_lo + a_hi), np.clip(trial, a_lo, a_hi))
-        o = _march(trial, take(a, active), pi_D, pi_F, steps)
+        ta = trial[active]
+        o = _march(ta, take(a, active), pi_D, pi_F, steps)
         f = _search(o["area"] / area_design[active])
         upper = f > 0
-        s = side[active]
-        fl = np.where(upper & (s == 1), fl / 2, fl)
-        fh = np.where(~upper & (s == -1), fh / 2, fh)
-        hi[active], f_hi[active] = np.where(upper, trial, a_hi), np.where(upper, f, fh)
-        lo[active], f_lo[active] = np.where(~upper, trial, a_lo), np.where(~upper, f, fl)
-        side[active] = np.where(upper, 1, -1)
-        plateau[active] = f <= -1.0
-        keep = upper | (np.abs(f) <= tol)          # the returned march is the last one on the feasible side
+        conv = np.abs(f) <= tol
+        top = (ta >= DRAW_LIMIT) & ~upper & ~conv
+        keep = upper | conv | top
+        if out is None:
+            out = {key: np.full(n, np.nan) for key in o}
         for key in out:
             out[key][active] = np.where(keep, o[key], out[key][active])
-        u[active] = np.where(keep, trial, u[active])
-        narrow = (hi[active] - lo[active]) <= 1e-13 * hi[active]
-        active = active[~((np.abs(f) <= tol) | narrow)]
+        u[active] = np.where(keep, ta, u[active])
+        within[active[top]] = False
+        lo_a, hi_a = np.where(upper, lo[active], ta), np.where(upper, ta, hi[active])
+        lo[active], hi[active] = lo_a, hi_a
+        narrow = np.isfinite(hi_a) & (hi_a - lo_a <= 1e-13 * hi_a)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            secant = (f - f_old[active]) / (ta - u_old[active])
+            use = np.isfinite(secant) & (secant > 0)
+            slope = np.where(use, secant, slope0[active])
+            step = ta - f / slope
+        smooth = f > -1.0
+        good = smooth & (slope > 0) & (step > lo_a) & (step < hi_a) & (np.abs(step - ta) < 0.5 * span[active])
+        known = np.isfinite(hi_a)
+        fallback = np.where(known, 0.5 * (lo_a + hi_a), np.minimum(ta + 0.5 * (DRAW_LIMIT - ta), DRAW_LIMIT))
+        fallback = np.where(~known & (ta >= 0.999 * DRAW_LIMIT), DRAW_LIMIT, fallback)
+        nxt = np.minimum(np.where(good, step, fallback), DRAW_LIMIT)
+        span[active] = np.abs(nxt - ta)
+        trial[active] = nxt
+        u_old[active], f_old[active] = ta, np.where(smooth, f, np.nan)
+        active = active[~(conv | narrow | top)]
     out["u"] = u
     out["within"] = within
     return out

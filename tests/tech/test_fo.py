@@ -327,3 +327,38 @@ def test_regenerator_keys_vary_with_monthly_temperatures():
     assert t.feasible.all()
     area = t.details["regenerator_membrane_area"]
     assert area[0] == pytest.approx(1.5 * area[1])          # area = capacity / flux
+
+
+def test_design_draw_matches_a_tight_bisection():
+    # numerics: the design search (first guess, then Newton and secant steps in a bracket; about four marches)
+    # gives the draw outlet salinity that a plain bisection of the same march to 1e-13 gives (the weakest draw
+    # whose exchanger needs no more than the design area), within 1e-9, over random feeds, recoveries and membranes
+    from compare.tech.ro import temperature_factor
+    rng = np.random.default_rng(12)
+    n = 12
+    S_f, T, r = rng.uniform(0.005, 0.045, n), rng.uniform(283.0, 308.0, n), rng.uniform(0.2, 0.5, n)
+    tf = temperature_factor(T)
+    a = dict(S_f=S_f, T=T, r=r, m_din=rng.uniform(0.8, 1.5, n), A=rng.uniform(1.0, 2.5, n) * LMH / 1e5 * tf,
+             B=rng.uniform(0.0, 0.3, n) * LMH * tf, S_struct=rng.uniform(200e-6, 600e-6, n), D=np.full(n, 1.5e-9),
+             k=rng.uniform(1e-5, 5e-5, n), rho=np.full(n, 997.0))
+    area = r / (a["rho"] * rng.uniform(2.0, 5.0, n) * LMH)
+    pD, pF = fo.osmotic_table(NACL), fo.osmotic_table(SEAWATER)
+    marches = []
+    march = fo._march
+
+    def counted(u, *args):
+        marches.append(u.size)
+        return march(u, *args)
+    fo._march = counted
+    try:
+        out = fo.design_draw(a, area, pD, pF, 40)
+    finally:
+        fo._march = march
+    assert out["within"].all()
+    assert len(marches) <= 8 and sum(marches) <= 5 * n          # about four marches per case
+    lo, hi = fo._equivalent_draw(S_f, T, pD, pF), np.full(n, fo.DRAW_LIMIT)
+    for _ in range(50):
+        mid = 0.5 * (lo + hi)
+        enough = fo._march(mid, a, pD, pF, 40)["area"] <= area
+        lo, hi = np.where(enough, lo, mid), np.where(enough, mid, hi)
+    assert out["u"] == pytest.approx(hi, rel=1e-9)
