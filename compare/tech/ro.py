@@ -71,6 +71,9 @@ CORRECTOR_PASSES = 60          # march: at most this many corrector passes per s
 FLUX_RTOL = 1e-10              # local flux: Newton steps stop below this share of the flux (then ~1e-20: quadratic)
 SECANT_FROM = 1e-3             # pressure search: secant slopes once the trial before is this close (|g|)
 GRADING = 3.0                  # march: permeate steps shrink towards the outlet as (1 - t)^GRADING
+LOWEST_FLUX_SHARE = 0.5        # the lead element's limit may lower the average flux to this share of the design flux
+LEAD_TOLERANCE = 1e-4          # the lead element's flux is held at its limit to about this relative tolerance
+LEAD_RUNGS = 9                 # fluxes tried at once between the design flux and its lowest share
 
 
 @dataclass(frozen=True)
@@ -100,6 +103,9 @@ class ROParameters:
                          'a pressure such as "82.7 bar"', lo=0.0, lo_open=True)
     max_lead_flux: Any = param("quantity", "35 L/m^2/h", "from memory: a common limit on the lead element's average flux",
                           "m/s", 'a flux such as "35 L/m^2/h"', lo=0.0, lo_open=True)
+    lead_flux_limit: Any = param("choice", "lower_flux", "common practice: designers add membrane (a lower average "
+                                 "flux) until the lead element is within its limit; \"infeasible\" holds the design "
+                                 "flux and judges it against the limit", choices=("lower_flux", "infeasible"))
     booster_pressure: Any = param("quantity", "0 bar", "tool default: no interstage booster", "Pa",
                              'a pressure such as "5 bar"', lo=0.0)
     pump_efficiency: Any = efficiency("0.85", "common practice: high-pressure pump 80-88 %")
@@ -540,6 +546,102 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False)
     return (P, reachable, prof) if profile else (P, reachable)
 
 
+def _with_flux(c, J):
+    """The design arrays ``c`` at average flux ``J`` [m/s] (the design area follows: capacity / J)."""
+    out = dict(c)
+    out["J_avg"] = np.asarray(J, dtype=float)
+    out["area_per_feed"] = c["r"] * c["v_p"] / out["J_avg"]
+    return out
+
+
+def _solve(c, stages, n_seg, P_max, limits=True) -> dict:
+    """Feed pressure and profile of the cases of ``c`` (stage counts ``stages``), in a few groups by stage count:
+    ``P``, ``reachable``, the march's profile (``x``, ``perm_salt``, ``S_b``, ``P_b``, ``lead``, ``J_out``,
+    ``Sp_out``), per-stage permeate and salt (3 x cases) and, with ``limits``, ``thermo_limit`` (the driving force
+    vanishes before the end even at ``P_max``)."""
+    n = stages.size
+    out = {"P": np.full(n, np.nan), "reachable": np.zeros(n, dtype=bool), "thermo_limit": np.zeros(n, dtype=bool),
+           "st_perm": np.zeros((3, n)), "st_salt": np.zeros((3, n))}
+    out.update({key: np.full(n, np.nan) for key in ("x", "perm_salt", "S_b", "P_b", "lead", "J_out", "Sp_out")})
+    for ns in np.unique(stages):                 # a few groups by stage count, never a loop over cases
+        idx = np.flatnonzero(stages == ns)
+        ci = take(c, idx)
+        shares = STAGE_SHARES[int(ns)]
+        Pi, ok, prof = solve_feed_pressure(ci, shares, n_seg, profile=True)
+        out["P"][idx], out["reachable"][idx] = Pi, ok
+        for key in ("x", "perm_salt", "S_b", "P_b", "lead", "J_out", "Sp_out"):
+            out[key][idx] = prof[key]
+        out["st_perm"][:ns, idx], out["st_salt"][:ns, idx] = prof["st_perm"], prof["st_salt"]
+        if limits:
+            # at the pressure limit, does the driving force vanish before the end? (thermodynamic restriction)
+            over = np.flatnonzero(ok & (Pi > P_max[idx]))
+            if over.size:
+                out["thermo_limit"][idx[over]] = ~np.isfinite(_march(P_max[idx][over], take(ci, over), shares,
+                                                                     n_seg))
+            out["thermo_limit"][idx[~ok]] = True
+    return out
+
+
+def _hold_lead_flux(c, stages, n_seg, P_max, cap, sol, cases, J_floor):
+    """The average flux [m/s] per case that holds the lead element's flux at ``cap`` for the ``cases`` (a mask)
+    whose lead element ``sol`` puts above it (elsewhere the present flux ``c["J_avg"]``), and ``short``: no flux down
+    to ``J_floor`` brings the lead element to its limit (the flux there is returned).
+
+    The lead element's flux falls with the average flux but not in proportion: at a low flux the design pressure
+    tends to the outlet's osmotic pressure and the lead flux to A x (that pressure less the inlet's), so the search
+    is bounded by ``J_floor``. A ladder of :data:`LEAD_RUNGS` fluxes from the present one to the floor is solved at
+    once; the flux at the limit is interpolated (quadratic in the lead flux through three rungs) and corrected by
+    one step of false position, which holds the lead flux at the limit to about :data:`LEAD_TOLERANCE`."""
+    J0 = c["J_avg"]
+    J = J0.copy()
+    short = np.zeros(J0.size, dtype=bool)
+    over = np.flatnonzero(cases & sol["reachable"] & (sol["lead"] > cap))
+    if over.size == 0:
+        return J, short
+    m = over.size
+    # a ladder of fluxes from the present one down to the floor, solved at once (one march per rung, vectorised)
+    t = np.linspace(0.0, 1.0, LEAD_RUNGS)[1:]
+    Jk = J0[over][:, None] * (J_floor[over][:, None] / J0[over][:, None]) ** t[None, :]      # (m, rungs - 1)
+    rep = np.repeat(over, t.size)
+    s = _solve(_with_flux(take(c, rep), Jk.ravel()), stages[rep], n_seg, P_max[rep], limits=False)
+    lead = np.where(s["reachable"], s["lead"], np.inf).reshape(m, t.size)
+    Js = np.concatenate([J0[over][:, None], Jk], axis=1)
+    Ls = np.concatenate([sol["lead"][over][:, None], lead], axis=1)
+    below = Ls <= cap[over][:, None]
+    found = below.any(axis=1)
+    k = np.where(found, np.argmax(below, axis=1), 1)
+    rows = np.arange(m)
+    J_a, J_b, L_a, L_b = Js[rows, k - 1], Js[rows, k], Ls[rows, k - 1], Ls[rows, k]
+    # a third rung beside the bracket (below it where there is one)
+    k3 = np.where(k + 1 < Js.shape[1], k + 1, np.maximum(k - 2, 0))
+    J_c, L_c = Js[rows, k3], Ls[rows, k3]
+    L = cap[over]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        # the average flux as a quadratic in the lead flux through the three rungs (Lagrange), at the limit; the
+        # straight line through the bracket where the quadratic leaves it
+        quad = (J_a * (L - L_b) * (L - L_c) / ((L_a - L_b) * (L_a - L_c))
+                + J_b * (L - L_a) * (L - L_c) / ((L_b - L_a) * (L_b - L_c))
+                + J_c * (L - L_a) * (L - L_b) / ((L_c - L_a) * (L_c - L_b)))
+        line = J_b + (L - L_b) * (J_a - J_b) / (L_a - L_b)
+    J_held = np.where(np.isfinite(quad) & (quad >= J_b) & (quad <= J_a), quad, line)
+    J_held = np.where(np.isfinite(J_held), np.clip(J_held, J_b, J_a), J_b)
+    # one step of false position from the design found, with the rung on the other side of the limit
+    inner = np.flatnonzero(found)
+    if inner.size:
+        idx = over[inner]
+        s = _solve(_with_flux(take(c, idx), J_held[inner]), stages[idx], n_seg, P_max[idx], limits=False)
+        L_h = np.where(s["reachable"], s["lead"], np.inf)
+        J_o = np.where(L_h > L[inner], J_b[inner], J_a[inner])
+        L_o = np.where(L_h > L[inner], L_b[inner], L_a[inner])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            step = J_held[inner] + (L[inner] - L_h) * (J_o - J_held[inner]) / (L_o - L_h)
+        ok = np.isfinite(step) & (np.abs(L_h / L[inner] - 1) > LEAD_TOLERANCE / 10)
+        J_held[inner] = np.where(ok, np.clip(step, J_b[inner], J_a[inner]), J_held[inner])
+    J[over] = np.where(found, J_held, J_floor[over])
+    short[over] = ~found
+    return J, short
+
+
 def design_arrays(feed: Feed, p: ROParameters) -> dict:
     """The per-case arrays (flattened to the case shape) that :func:`_march` and :func:`solve_feed_pressure` take:
     temperature-corrected permeabilities, the design's geometry and the membrane feed after exchanger mixing."""
@@ -570,25 +672,48 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
     c = design_arrays(feed, p)
     rho_p = 1.0 / c["v_p"]
     n = S_f.size
-    P, reachable = np.full(n, np.nan), np.zeros(n, dtype=bool)
-    prof = {key: np.full(n, np.nan) for key in ("x", "perm_salt", "S_b", "P_b", "lead", "J_out", "Sp_out")}
-    st_perm, st_salt = np.zeros((3, n)), np.zeros((3, n))
-    thermo_limit = np.zeros(n, dtype=bool)
-    for ns in np.unique(stages):                 # a few groups by stage count, never a loop over cases
-        idx = np.flatnonzero(stages == ns)
-        ci = take(c, idx)
-        shares = STAGE_SHARES[int(ns)]
-        Pi, ok, out = solve_feed_pressure(ci, shares, n_seg, profile=True)
-        P[idx], reachable[idx] = Pi, ok
-        for key in prof:
-            prof[key][idx] = out[key]
-        st_perm[:ns, idx], st_salt[:ns, idx] = out["st_perm"], out["st_salt"]
-        # at the pressure limit, does the driving force vanish before the end? (thermodynamic restriction)
-        P_max = b(p.max_pressure)[idx]
-        over = np.flatnonzero(ok & (Pi > P_max))
-        if over.size:
-            thermo_limit[idx[over]] = ~np.isfinite(_march(P_max[over], take(ci, over), shares, n_seg))
-        thermo_limit[idx[~ok]] = True
+    P_max = b(p.max_pressure)
+    sol = _solve(c, stages, n_seg, P_max)
+    cap = b(p.max_lead_flux)
+    short = np.zeros(n, dtype=bool)             # no flux down to LOWEST_FLUX_SHARE holds the lead element
+    J_design = c["J_avg"]
+    if p.lead_flux_limit == "lower_flux":
+        J_floor = LOWEST_FLUX_SHARE * J_design
+        lowered = np.zeros(n, dtype=bool)
+        for _ in range(3):
+            # the cases (with periods: each case's period furthest above the limit, on the last axis) whose lead
+            # element is above its limit; with periods, one membrane area per design: the lowest flux any period
+            # needs; a period above the limit at that flux starts another round
+            ratio = np.where(sol["reachable"] & ~short, sol["lead"] / cap, 0.0)
+            if len(shape) == 2:
+                grid = ratio.reshape(shape)
+                worst = (grid == grid.max(axis=1, keepdims=True)) & (grid > 1 + 10 * LEAD_TOLERANCE)
+                worst &= np.cumsum(worst, axis=1) == 1
+                cases = worst.ravel()
+            else:
+                cases = ratio > 1 + 10 * LEAD_TOLERANCE
+            if not cases.any():
+                break
+            J, held_short = _hold_lead_flux(c, stages, n_seg, P_max, cap, sol, cases, J_floor)
+            if len(shape) == 2:
+                J = np.broadcast_to(J.reshape(shape).min(axis=1, keepdims=True), shape).ravel().copy()
+                held_short = np.broadcast_to(held_short.reshape(shape).any(axis=1, keepdims=True), shape).ravel()
+            short = short | held_short
+            moved = J < c["J_avg"] * (1 - 1e-12)
+            lowered |= moved
+            c = _with_flux(c, J)
+            idx = np.flatnonzero(moved)
+            sub = _solve(take(c, idx), stages[idx], n_seg, P_max[idx])
+            for key, val in sub.items():
+                if key.startswith("st_"):
+                    sol[key][:, idx] = val
+                else:
+                    sol[key][idx] = val
+    else:
+        lowered = np.zeros(n, dtype=bool)
+    P, reachable, thermo_limit = sol["P"], sol["reachable"], sol["thermo_limit"]
+    st_perm, st_salt = sol["st_perm"], sol["st_salt"]
+    prof = sol
     P_b = prof["P_b"]
     S_p = prof["perm_salt"] / r
     S_bm = prof["S_b"]
@@ -638,7 +763,12 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
              "RO: the net driving pressure falls to zero before the end of the vessel even at the maximum pressure "
              "(the concentrate's osmotic pressure; thermodynamic restriction)", rs(thermo_limit)),
         Flag("infeasible", "lead_flux", "lead_flux", "ro",
-             "RO: the lead element's flux is above its limit", rs(reachable & (prof["lead"] > b(p.max_lead_flux)))),
+             "RO: the lead element's flux is above its limit (ro.max_lead_flux)"
+             + (f" even at {LOWEST_FLUX_SHARE:.0%} of the design flux" if p.lead_flux_limit == "lower_flux" else ""),
+             rs(reachable & (short if p.lead_flux_limit == "lower_flux" else prof["lead"] > cap))),
+        Flag("note", "flux_lowered", "average_flux", "ro",
+             "RO: the average flux is lowered below the design flux (ro.flux) to hold the lead element's flux at its "
+             "limit (ro.max_lead_flux); the membrane area rises in proportion", rs(reachable & lowered & ~short)),
         Flag("note", "at_restriction", "area_used_fraction", "ro",
              "RO design at the thermodynamic restriction: the outlet's net driving pressure is near zero and part "
              "of the membrane area produces almost nothing (see the area used)", rs(reachable & (prof["x"] < 1 - 1e-6))),

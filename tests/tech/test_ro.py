@@ -145,8 +145,13 @@ def test_limits_make_cases_infeasible():
     assert osmotic_pressure(SEAWATER.ln_aw(0.07, 298.15), 298.15) < 82.7e5
     hard = ro.evaluate(feed([0.035]), params(recovery=0.5, water_permeability="0.4 L/m^2/h/bar", flux="18 L/m^2/h"))
     assert _reasons(hard) == ["max_pressure"]
-    low = ro.evaluate(feed([0.035]), params(recovery=0.45, max_lead_flux="15 L/m^2/h"))
+    # a lead element's limit that the design flux passes: infeasible when the flux is held, and also when no average
+    # flux down to half the design flux meets it (the lead flux tends to a floor, not to zero, as the flux falls)
+    low = ro.evaluate(feed([0.035]), params(recovery=0.45, max_lead_flux="20 L/m^2/h", lead_flux_limit="infeasible"))
     assert _reasons(low) == ["lead_flux"]
+    lowest = ro.evaluate(feed([0.035]), params(recovery=0.45, max_lead_flux="15 L/m^2/h"))
+    assert _reasons(lowest) == ["lead_flux"]
+    assert lowest.details["average_flux"][0] == pytest.approx(ro.LOWEST_FLUX_SHARE * 14 * LMH, rel=1e-12)
     # beyond every pressure up to the search limit: no result at all (NaN), with the same reason
     gone = ro.evaluate(feed([0.1]), params(recovery=0.8, max_pressure="1000 bar"))
     assert np.isnan(gone.electricity[0]) and "driving_force" in _reasons(gone)
@@ -280,3 +285,46 @@ def test_feed_pressure_solve_matches_a_tight_bisection():
         assert P == pytest.approx(hi, rel=1e-9)
         at_restriction += int((ro._march(P, ci, shares, 20) < 1 - 1e-6).sum())
     assert at_restriction >= 3                              # the premise: some sit at the restriction
+
+
+def test_lead_element_limit_lowers_the_average_flux():
+    # Seawater at 25 degC, design flux 14 L/m2/h, lead element limited to 23 L/m2/h. The lead element's flux rises
+    # with recovery (the profile along the vessel grows more skewed as the outlet's osmotic pressure rises), so at
+    # low recovery the design flux stands and at high recovery the design lowers the average flux until the lead
+    # element is at its limit: the membrane area (capacity / average flux) rises with recovery from there.
+    r = np.array([0.35, 0.45, 0.5, 0.55])
+    held = ro.evaluate(feed(np.full(4, 0.035)), params(recovery=r, max_lead_flux="23 L/m^2/h"))
+    fixed = ro.evaluate(feed(np.full(4, 0.035)), params(recovery=r, max_lead_flux="23 L/m^2/h",
+                                                        lead_flux_limit="infeasible"))
+    d, f = held.details, fixed.details
+    above = f["lead_flux"] > 23 * LMH                       # the premise: where the design flux passes the limit
+    assert list(above) == [False, False, True, True]
+    assert held.feasible.all() and list(fixed.feasible) == [True, True, False, False]
+    lowered = np.asarray(next(fl for fl in held.flags if fl.code == "flux_lowered").mask)
+    assert list(lowered) == list(above)
+    np.testing.assert_allclose(d["lead_flux"][above], 23 * LMH, rtol=2e-4)       # held at the limit
+    np.testing.assert_allclose(d["average_flux"][~above], 14 * LMH, rtol=1e-12)
+    assert np.all(np.diff(d["average_flux"][1:]) < 0)
+    # identity: the area is the capacity over the average flux; where the flux stands, nothing moves
+    np.testing.assert_allclose(d["membrane_area"], 50000 / 86400 / d["average_flux"], rtol=1e-12)
+    np.testing.assert_allclose(held.electricity[~above], fixed.electricity[~above], rtol=1e-12)
+    # a lower flux needs less driving pressure, so less energy than the design flux would (the held design at 50 %
+    # against the fixed one, whose energy is computed though it is judged infeasible)
+    assert d["feed_pressure"][2] < f["feed_pressure"][2]
+
+
+def test_lead_element_limit_gives_one_area_over_the_periods():
+    # cases x periods (the pipeline's shape): one design serves every month, so the average flux is the lowest any
+    # month needs (the warmest: permeability rises with temperature and skews the profile); the other months run
+    # below the limit on the same area (premise at the design flux: 21.1, 24.8 and 26.1 L/m2/h, regression)
+    T = np.array([[283.15, 298.15, 303.15]])
+    S = np.full((1, 3), 0.035)
+    f = Feed(SEAWATER, "seawater", S, T, np.full((1, 3), 0.0005), np.full((1, 3), 383.15),
+             np.full((1, 3), 50000 / 86400))
+    perf = ro.evaluate(f, params(recovery=0.5, max_lead_flux="25 L/m^2/h"))
+    d = perf.details
+    assert perf.feasible.all()
+    np.testing.assert_allclose(d["average_flux"], d["average_flux"][0, 0], rtol=1e-12)
+    assert d["average_flux"][0, 0] < 14 * LMH
+    assert d["lead_flux"][0, 2] == pytest.approx(25 * LMH, rel=2e-4)
+    assert np.all(d["lead_flux"][0, :2] < 25 * LMH)
