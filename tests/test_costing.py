@@ -37,6 +37,47 @@ def alder_point(temperature="14 degC"):
     return resolve(data, label="alder-point")
 
 
+def gull_harbour(temperature="33 degC", **ro):
+    """The Gull Harbour demo (warm seawater, 41 g/kg, USD) at one temperature, RO only."""
+    data = tomllib.loads((DEMOS / "gull-harbour.toml").read_text())
+    data.pop("claim", None)
+    data["feed"]["temperature"] = temperature
+    data["med"] = {"enabled": False}
+    data["fo"] = {"enabled": False}
+    data["ro"].update(ro)
+    return resolve(data, label="gull-harbour")
+
+
+def test_ro_cost_against_recovery_trades_energy_against_membranes():
+    # The Gull Harbour demo (fictional) in its warmest month (33 degC, the month that sizes the membrane), whose
+    # designer holds the lead element to 27 L/m2/h (ro.max_lead_flux). A grid of recovery through the pipeline:
+    # - low side: the specific energy falls as recovery rises: less feed is pumped per m3 of product, so less brine
+    #   goes through the exchanger's losses, its mixing and its booster;
+    # - high side: the lead element's flux rises with recovery (the flux profile along the vessel grows more skewed
+    #   as the outlet's osmotic pressure rises); once it reaches the limit the design lowers its average flux, so
+    #   the membrane area and its cost (elements, vessels, replacement) rise with recovery;
+    # and the levelised cost has its minimum inside the grid. Without the limit the cost falls to the grid's end
+    # (cheap electricity: the feed-side savings outweigh the energy's rise), so here the membranes make the optimum.
+    r = np.array([0.20, 0.24, 0.28, 0.32, 0.36, 0.40, 0.44, 0.47, 0.50, 0.52, 0.54])
+    ro = pipeline.evaluate(gull_harbour(), {"ro.recovery": r}).technologies[0]
+    assert ro.feasible.all()
+    assert np.all(np.diff(ro.electricity[:3]) < 0)                       # energy falls on the low side
+    lowered = np.asarray(next(f for f in ro.flags if f.code == "flux_lowered").mask)
+    assert not lowered[:8].any() and lowered[8:].all()                   # the limit binds from 50 %
+    membranes = ro.capital_items["membranes"] + ro.capital_items["pressure_vessels"]
+    np.testing.assert_allclose(membranes[:8], membranes[0], rtol=1e-12)  # the design flux stands: one area
+    assert np.all(np.diff(membranes[7:]) > 0)                            # then membranes rise with recovery
+    assert np.all(np.diff(ro.cost_membranes[7:]) > 0)
+    assert membranes[-1] > 1.3 * membranes[0]
+    lcow = ro.levelized_cost
+    best = int(np.argmin(lcow))
+    assert 0 < best < r.size - 1, lcow                                   # an interior minimum
+    assert lcow[-1] > lcow[best] + 0.01
+    free = pipeline.evaluate(gull_harbour(max_lead_flux="1000 L/m^2/h"), {"ro.recovery": r}).technologies[0]
+    assert free.feasible.all() and np.all(np.diff(free.levelized_cost) < 0), free.levelized_cost
+    np.testing.assert_allclose(free.levelized_cost[:8], lcow[:8], rtol=1e-12)
+
+
 def test_ro_cost_against_recovery_has_an_interior_minimum():
     # A grid of recovery through the pipeline at a seawater demo site. Two trends make the optimum: per m3 of
     # product, the costs that follow the feed (intake, pretreatment, energy recovery, brine works, chemicals) fall as
