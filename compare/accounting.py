@@ -200,7 +200,7 @@ def work_equivalent_factor(T_heat, site: Site):
 
 def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site: Site, capital_cost,
             fixed_om, costs: costing.Costs | None = None, roles: dict | None = None,
-            scaling=None) -> Accounts:
+            scaling=None, flows: Flows | None = None) -> Accounts:
     """The accounts of one technology's :class:`Performance` on N cases by M periods.
 
     Adds the checks every technology gets: heat colder than the technology needs makes it infeasible (code
@@ -217,6 +217,7 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     roles : the technology's concentrate roles (``Technology.concentrate``): where its brine temperature and intake
         per product are among its details
     scaling : the grid (N, M) :class:`compare.concentrate.Scaling` of an ion composition, reduced here to cases
+    flows : the plant's :class:`Flows` (:func:`plant_flows`, the same the cost build-up priced); computed when None
     """
     n, M = site.capacity.size, site.weights.size
     shape = (n, M)
@@ -295,21 +296,34 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     items = {"capital_items": {k: np.where(feasible, v, np.nan) for k, v in costs.capital.items()},
              "om_items": {k: np.where(feasible, v, np.nan) for k, v in costs.annual.items()}}
     details = {k: per_case(np.asarray(v, dtype=float)) for k, v in perf.details.items()}
-    intake, brine, T_b = _site_flows(perf, feed, site, roles or {}, shape, model.water)
+    if flows is None:
+        flows = plant_flows(perf, feed, site, roles or {}, shape, model.water)
     if scaling is not None:
         from .concentrate import per_case as scaling_per_case
         scaling = scaling_per_case(scaling)
     return Accounts(technology=name, feasible=feasible, recovery=per_case(r), product_salinity=per_case(Sp),
                     brine_salinity=per_case(Sb), heat_temperature=heat_T, least_work=lw_y,
                     annual_production=np.asarray(site.annual_production, dtype=float), details=details,
-                    flags=tuple(flags), intake_flow=per_case(intake), brine_flow=per_case(brine),
-                    brine_temperature=per_case(T_b), scaling=scaling, **design, **items)
+                    flags=tuple(flags), intake_flow=per_case(flows.intake), brine_flow=per_case(flows.brine),
+                    brine_temperature=per_case(flows.brine_temperature), scaling=scaling, **design, **items)
 
 
-def _site_flows(perf: Performance, feed: Feed, site: Site, roles: dict, shape, water: str):
-    """Intake and brine flows [m^3/s] and the brine's temperature [K] on the grid: the product flow over the
-    recovery (by mass, through the densities of product, feed and brine); a technology that draws more than its
-    process feed (MED's cooling water) names its intake per kg of product among its details."""
+@dataclass(frozen=True)
+class Flows:
+    """The water a plant takes in and sends back, on the grid (N cases x M periods): ``intake`` (all water drawn,
+    MED's cooling water included), ``feed`` (the process feed, part of the intake), ``brine`` [m^3/s], and the
+    brine's temperature [K]. The cost build-up prices these same flows."""
+
+    intake: np.ndarray
+    feed: np.ndarray
+    brine: np.ndarray
+    brine_temperature: np.ndarray
+
+
+def plant_flows(perf: Performance, feed: Feed, site: Site, roles: dict, shape, water: str) -> Flows:
+    """The :class:`Flows` of a technology's design on the grid: the product flow over the recovery (by mass,
+    through the densities of product, feed and brine); a technology that draws more than its process feed (MED's
+    cooling water) names its intake per kg of product among its details (role ``intake_per_product``)."""
     from .concentrate import BRINE_TEMPERATURE, INTAKE, site_flows
     from .thermo.brine import density
 
@@ -329,5 +343,5 @@ def _site_flows(perf: Performance, feed: Feed, site: Site, roles: dict, shape, w
     per_product = grid(perf.details[roles[INTAKE]]) if INTAKE in roles else None
     if per_product is not None:
         per_product = np.where(np.isfinite(per_product), per_product, 1.0 / r)
-    intake, brine = site_flows(grid(site.capacity[:, None]), r, rho_p, rho_f, rho_b, per_product)
-    return intake, brine, T_b
+    intake, process_feed, brine = site_flows(grid(site.capacity[:, None]), r, rho_p, rho_f, rho_b, per_product)
+    return Flows(intake, process_feed, brine, T_b)

@@ -135,7 +135,7 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
 
 
 def site_flows(capacity, recovery, product_density, feed_density, brine_density, intake_per_product=None):
-    """Intake and brine flows of a plant [m^3/s].
+    """Intake, process feed and brine flows of a plant [m^3/s].
 
     Parameters
     ----------
@@ -143,18 +143,19 @@ def site_flows(capacity, recovery, product_density, feed_density, brine_density,
     recovery : mass recovery of the technology's own streams [-]
     product_density, feed_density, brine_density : [kg/m^3]
     intake_per_product : mass of water taken in per mass of product [-] when more than the process feed is drawn
-        (MED's cooling water); default 1 / recovery
+        (MED's cooling water, of which the feed is a part); default 1 / recovery
 
     Returns
     -------
-    intake, brine : [m^3/s]
+    intake, feed, brine : [m^3/s]
     """
     m_p = np.asarray(capacity, dtype=float) * product_density
     r = np.asarray(recovery, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
-        intake_mass = m_p * (1.0 / r if intake_per_product is None else intake_per_product)
+        feed_mass = m_p / r
+        intake_mass = feed_mass if intake_per_product is None else m_p * intake_per_product
         brine_mass = m_p * (1.0 / r - 1.0)
-    return intake_mass / feed_density, brine_mass / brine_density
+    return intake_mass / feed_density, feed_mass / feed_density, brine_mass / brine_density
 
 
 def _grid(x, shape):

@@ -21,9 +21,11 @@ at the reference capacity, scaled by (capacity / reference)^(labour exponent - 1
 area x price / life; chemicals per m^3 of feed (FO adds its draw make-up); brine disposal per m^3 of brine at the
 price of the site's method (``brine.disposal``). Electricity and heat are priced by the accounting.
 
-Flows are taken as volumes in the ratio of the mass flows (feed = product / recovery; the density difference, about
-2.5 % for seawater, is below the precision of any price here). Equipment is sized on the design's largest period
-(pumps for the warmest or coldest month, whichever needs more); consumables follow the production-weighted year.
+The works are priced on the plant's own flows (:func:`compare.accounting.plant_flows`, the figures the records show as
+water taken in and brine sent back): the intake on all the water drawn (MED's cooling water, of which its feed is a
+part, included: the same screens, pipelines and pumps carry it, at the one price), pretreatment and chemicals on
+the process feed, brine works and disposal on the brine. Equipment is sized on the design's largest period (pumps
+for the warmest or coldest month, whichever needs more); consumables follow the production-weighted year.
 """
 
 from __future__ import annotations
@@ -211,11 +213,12 @@ class Costs:
 
 
 class Design:
-    """A technology's design seen for costing: its details and parameters per case (N,). ``peak`` is the largest
-    value over the periods (for sizing), ``mean`` the production-weighted one (for consumables)."""
+    """A technology's design seen for costing: its details and parameters per case (N,) and the plant's flows
+    (:class:`compare.accounting.Flows`, N x M). ``peak`` is the largest value over the periods (for sizing), ``mean``
+    the production-weighted one (for consumables)."""
 
-    def __init__(self, perf, params, capacity, weights):
-        self.perf, self.params = perf, params
+    def __init__(self, perf, params, capacity, weights, flows):
+        self.perf, self.params, self.flows = perf, params, flows
         self.capacity = np.asarray(capacity, dtype=float)
         self.weights = np.asarray(weights, dtype=float)
         self.shape = (self.capacity.size, self.weights.size)
@@ -274,7 +277,7 @@ def ro_equipment(d: Design, site: SiteCosts):
     Q = d.capacity
     area = d.peak(d.detail("membrane_area"))
     power = d.peak((np.asarray(d.detail("high_pressure_pump")) + np.asarray(d.detail("booster"))) * Q[:, None])
-    brine = d.peak(Q[:, None] * (1.0 / np.asarray(d.perf.recovery, dtype=float) - 1.0))
+    brine = d.peak(d.flows.brine)
     capital, annual = _membrane_train(d, area, "", site.equipment_exponent, power, brine,
                                       d.params.energy_recovery, vessels=d.peak(d.detail("vessels")))
     return capital, annual, power
@@ -332,7 +335,7 @@ def _param(params, name, n):
     return None if v is None else np.broadcast_to(np.asarray(v, dtype=float).reshape(-1), (n,))
 
 
-def build(name: str, perf, params, site: SiteCosts, capacity, weights, annual_production) -> Costs:
+def build(name: str, perf, params, site: SiteCosts, capacity, weights, annual_production, flows) -> Costs:
     """The capital and O&M build-up of technology ``name`` from its :class:`~compare.tech.base.Performance`
     (arrays broadcasting to N cases x M periods) and parameter record.
 
@@ -341,19 +344,18 @@ def build(name: str, perf, params, site: SiteCosts, capacity, weights, annual_pr
     capacity : (N,) product flow [m^3/s]
     weights : (M,) share of the year's production in each period [-]
     annual_production : (N,) [m^3/year]
+    flows : the plant's :class:`compare.accounting.Flows` (N x M) [m^3/s]
 
-    Generic items, for every technology: intake (by the water taken: feed plus any cooling water the design reports
-    as ``cooling_water_per_product``), pretreatment (by feed, at the technology's ``pretreatment_cost``), brine
-    disposal works (by brine), post-treatment (by product), other pumps (the plant's electric power less the pumps the
-    technology costed itself), indirect costs; O&M: maintenance, staff, chemicals, brine disposal.
+    Generic items, for every technology: intake (by all the water drawn), pretreatment (by the process feed, at the
+    technology's ``pretreatment_cost``), brine disposal works (by brine), post-treatment (by product), other pumps
+    (the plant's electric power less the pumps the technology costed itself), indirect costs; O&M: maintenance,
+    staff, chemicals (by feed), brine disposal (by brine).
     """
     Q = np.asarray(capacity, dtype=float)
     n = Q.size
-    d = Design(perf, params, Q, weights)
-    r = np.asarray(perf.recovery, dtype=float)
-    feed_ratio = 1.0 / r                                                  # feed per product [-]
-    brine_ratio = 1.0 / r - 1.0
-    cooling = np.asarray(perf.details.get("cooling_water_per_product", 0.0), dtype=float)
+    d = Design(perf, params, Q, weights, flows)
+    feed_ratio = np.asarray(flows.feed, dtype=float) / Q[:, None]         # feed per product [-]
+    brine_ratio = np.asarray(flows.brine, dtype=float) / Q[:, None]
     given = _param(params, "capital_cost", n)
     capital: dict = {}
     annual: dict = {}
@@ -369,13 +371,12 @@ def build(name: str, perf, params, site: SiteCosts, capacity, weights, annual_pr
         capital["other_pumps"] = scaled(site.pump_price, np.maximum(d.peak(np.asarray(perf.electricity) * Q[:, None])
                                                                     - costed, 0.0), REFERENCE_POWER,
                                         site.equipment_exponent)
-        capital["intake"] = scaled(site.intake_cost, d.peak(Q[:, None] * (feed_ratio + cooling)), REFERENCE_FLOW,
-                                   w_exp)
+        capital["intake"] = scaled(site.intake_cost, d.peak(flows.intake), REFERENCE_FLOW, w_exp)
         pre = _param(params, "pretreatment_cost", n)
         if pre is not None:
-            capital["pretreatment"] = scaled(pre, d.peak(Q[:, None] * feed_ratio), REFERENCE_FLOW, w_exp)
+            capital["pretreatment"] = scaled(pre, d.peak(flows.feed), REFERENCE_FLOW, w_exp)
         linear = DISPOSAL_LINEAR[site.disposal]
-        capital["brine_disposal"] = scaled(site.disposal_capital, d.peak(Q[:, None] * brine_ratio), REFERENCE_FLOW,
+        capital["brine_disposal"] = scaled(site.disposal_capital, d.peak(flows.brine), REFERENCE_FLOW,
                                            1.0 if linear else w_exp)
         capital["post_treatment"] = scaled(site.post_treatment_cost, Q, REFERENCE_FLOW, w_exp)
         capital["indirect"] = site.indirect_share * sum(capital.values())

@@ -145,9 +145,10 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         if chem is not None:
             sc, more = assess(name, tech.concentrate, perf, feed, chem, (n, M))
             perf = dataclasses.replace(perf, flags=tuple(perf.flags) + tuple(more))
-        costs = costing.build(name, perf, params, site_costs, capacity, weights, site.annual_production)
+        flows = acc.plant_flows(perf, feed, site, tech.concentrate, (n, M), model.water)
+        costs = costing.build(name, perf, params, site_costs, capacity, weights, site.annual_production, flows)
         results.append(acc.account(name, perf, model, feed, site, None, None, costs=costs, roles=tech.concentrate,
-                                   scaling=sc))
+                                   scaling=sc, flows=flows))
     return RunResult(scenario, n, floor, tuple(results), varied)
 
 

@@ -120,20 +120,26 @@ def test_ro_flux_trades_membranes_against_energy():
     assert vessels[0] / vessels[2] == pytest.approx(2.0, rel=2e-3)
 
 
-def test_med_capital_rises_with_effects():
+def test_med_capital_follows_its_effects():
     # More effects share the same temperature range in smaller steps, so each needs more surface: the evaporator's
-    # capital rises with the effect count, while the heat per m3 falls. With few effects the down condenser rejects
-    # more heat, so the cooling water (taken through the intake) falls as effects are added, and with it the pumps'
-    # electricity and so their capital: the plant's capital rises with effects once the evaporator outweighs those
-    # savings (here from 8 effects on).
+    # capital rises with every added effect, while the heat per m3 falls. The intake pulls the other way: the down
+    # condenser takes the last effect's vapour, about 1/N of the product, so the seawater drawn to cool it (through
+    # the same intake, priced on all the water drawn) falls with every added effect. With few effects that saving
+    # outweighs the added surface and the plant's capital falls; from its minimum (7 effects here, regression) it
+    # rises with every added effect.
     s = site(only=("med",))
-    effects = np.array([4, 6, 8, 10, 12])
+    effects = np.arange(4, 15)
     med = pipeline.evaluate(s, {"med.effects": effects}).technologies[0]
     assert med.feasible.all()
     assert np.all(np.diff(med.capital_items["evaporator"]) > 0)
-    assert np.all(np.diff(med.capital_items["intake"]) < 0)
-    assert np.all(np.diff(med.capital[2:]) > 0)
     assert np.all(np.diff(med.heat) < 0)
+    assert np.all(np.diff(med.intake_flow) < 0) and np.all(np.diff(med.capital_items["intake"]) < 0)
+    # the evaporator outgrows the intake's saving: above the minimum the added surface costs more than it saves
+    best = int(np.argmin(med.capital))
+    assert effects[best] == 7, med.capital
+    assert np.all(np.diff(med.capital[:best + 1]) < 0) and np.all(np.diff(med.capital[best:]) > 0)
+    evap, intake = np.diff(med.capital_items["evaporator"]), np.diff(med.capital_items["intake"])
+    assert np.all(evap[best:] > -intake[best:]) and np.all(evap[:best] < -intake[:best])
 
 
 def test_default_build_up_lands_in_the_published_range():
@@ -185,15 +191,17 @@ def test_breakdowns_add_up_for_every_technology():
 
 
 def test_brine_disposal_by_method():
-    # identity: per m3 of product, disposal costs its price per m3 of brine times the brine per product, (1 - r)/r;
+    # identity: per m3 of product, disposal costs its price per m3 of brine times the brine per product, the plant's
+    # own brine flow (the one the record shows as brine sent back: product mass (1 - r)/r at the brine's density);
     # ponds are built by area, so their capital is linear in the brine flow (no economy of scale).
     base = pipeline.evaluate(site(only=("ro",))).technologies[0]
     pond = pipeline.evaluate(site(only=("ro",), brine={"disposal": "evaporation_pond"})).technologies[0]
-    r = 0.45
-    assert pond.cost_brine_disposal[0] - base.cost_brine_disposal[0] == pytest.approx((0.3 - 0.01) * (1 - r) / r,
+    Q = 100000 / DAY
+    brine_per_product = base.brine_flow[0] / Q
+    assert brine_per_product == pytest.approx((1 - 0.45) / 0.45, rel=0.06)      # denser than the product
+    assert pond.cost_brine_disposal[0] - base.cost_brine_disposal[0] == pytest.approx((0.3 - 0.01) * brine_per_product,
                                                                                       rel=1e-9)
-    brine_m3_day = 100000 * (1 / r - 1)
-    assert pond.capital_items["brine_disposal"][0] == pytest.approx(5000 * brine_m3_day, rel=1e-9)
+    assert pond.capital_items["brine_disposal"][0] == pytest.approx(5000 * base.brine_flow[0] * DAY, rel=1e-9)
     assert pond.levelized_cost[0] > base.levelized_cost[0] + 1.0
 
 
