@@ -1,6 +1,7 @@
 """Reverse osmosis: spiral-wound pressure vessels in 1-3 stages, solution-diffusion transport with film-model
 concentration polarisation, marched along the flow path, in design mode (recovery and average flux given; feed
-pressure and membrane area solved), vectorised over every case at once.
+pressure and membrane area solved; the average flux lowered where the lead element would pass its limit), vectorised
+over every case at once.
 
 Model
 -----
@@ -33,10 +34,17 @@ a booster pump making up the rest, and volumetric mixing that raises the membran
 S_f (1 - x (1 - r)) / (1 - x)), a turbine on the pump shaft, or none; interstage boosters; and other plant electricity
 (intake, pretreatment, post-treatment), reported separately in ``details``.
 
+The lead element's limit is a design rule (``lead_flux_limit = "lower_flux"``): where the design flux ``flux`` puts
+the lead element's average flux above ``max_lead_flux`` (at high recovery the profile along the vessel grows more
+skewed), the design lowers its average flux, adding membrane, until the lead element sits at the limit, down to
+:data:`LOWEST_FLUX_SHARE` of the design flux. With periods (cases x periods, the last axis) one design serves them
+all: the flux is the lowest any period needs. ``"infeasible"`` holds the design flux and judges it.
+
 Limits (each makes the case infeasible, with its reason): the feed pressure needed is above ``max_pressure``; at
 ``max_pressure`` the net driving pressure falls to zero before the end of the vessel (thermodynamic restriction); the
-lead element's average flux is above ``max_lead_flux``; the membrane brine is outside the activity model's validated
-range. A permeate above the product target is flagged by the pipeline.
+lead element's average flux is above ``max_lead_flux`` (with ``"lower_flux"``: even at the lowest flux searched); the
+membrane brine is outside the activity model's validated range. A permeate above the product target is flagged by
+the pipeline.
 
 References
 ----------
