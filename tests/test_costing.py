@@ -56,8 +56,10 @@ def test_ro_cost_against_recovery_trades_energy_against_membranes():
     # - high side: the lead element's flux rises with recovery (the flux profile along the vessel grows more skewed
     #   as the outlet's osmotic pressure rises); once it reaches the limit the design lowers its average flux, so
     #   the membrane area and its cost (elements, vessels, replacement) rise with recovery;
-    # and the levelised cost has its minimum inside the grid. Without the limit the cost falls to the grid's end
-    # (cheap electricity: the feed-side savings outweigh the energy's rise), so here the membranes make the optimum.
+    # and the levelised cost has its minimum inside the grid (at 54 % the lowered design reaches the thermodynamic
+    # restriction: part of the added membrane produces almost nothing, and a note says so). Without the limit the
+    # cost falls to the grid's end (cheap electricity: the feed-side savings outweigh the energy's rise), so here the
+    # membranes make the optimum.
     r = np.array([0.20, 0.24, 0.28, 0.32, 0.36, 0.40, 0.44, 0.47, 0.50, 0.52, 0.54])
     ro = pipeline.evaluate(gull_harbour(), {"ro.recovery": r}).technologies[0]
     assert ro.feasible.all()

@@ -82,6 +82,10 @@ GRADING = 3.0                  # march: permeate steps shrink towards the outlet
 LOWEST_FLUX_SHARE = 0.5        # the lead element's limit may lower the average flux to this share of the design flux
 LEAD_TOLERANCE = 1e-4          # the lead element's flux is held at its limit to about this relative tolerance
 LEAD_RUNGS = 9                 # fluxes tried at once between the design flux and its lowest share
+#: the feed-pressure solves of the flux search (not of the design kept) settle at 1e-6 of the pressure: the lead flux
+#: they give moves by a few 1e-6 of itself, and designs at the restriction (lowered fluxes reach it) need twenty
+#: fewer bisections
+SEARCH = {"tol": 1e-6, "narrow_to": 1e-6}
 
 
 @dataclass(frozen=True)
@@ -482,7 +486,7 @@ def first_guess(c, shares):
     return np.where(np.isfinite(P[:, 0]), P[:, 0], np.max(base, axis=1) + c["J_avg"] / c["A"])
 
 
-def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False):
+def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False, narrow_to=1e-12):
     """Feed pressure [Pa] at which the needed membrane area equals the design area, for all cases at once.
     Returns (P, reachable): reachable is False where no pressure up to :data:`P_SEARCH_MAX` suffices; with
     ``profile``, also the march's profile at P (at :data:`P_SEARCH_MAX` where unreachable).
@@ -493,7 +497,7 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False)
     outside the bracket, or not shrinking to half the one before, bisects; without an upper end yet the trial
     grows by half its margin over the feed's osmotic pressure. It starts from :func:`first_guess` (within a few
     per cent), so most cases settle in three or four marches. A case settles when |g| < ``tol`` or the bracket is
-    narrower than 1e-12 of P (then P is its upper end: a design at the restriction, where x jumps from infinite to
+    narrower than ``narrow_to`` of P (then P is its upper end: a design at the restriction, where x jumps from infinite to
     below 1); cases leave the loop as they settle. Every trial march is a full one, so the profile of the accepted
     trial is kept rather than marched again."""
     n = c["S_in"].size
@@ -528,7 +532,7 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False)
         lo_a = np.where(upper, lo[active], Pa)
         hi_a = np.where(upper, Pa, hi[active])
         lo[active], hi[active] = lo_a, hi_a
-        narrow = np.isfinite(hi_a) & (hi_a - lo_a <= 1e-12 * hi_a)
+        narrow = np.isfinite(hi_a) & (hi_a - lo_a <= narrow_to * hi_a)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             # the slope: the secant through the last two trials once there are two on the smooth part (the
             # march's own slope is within about 0.5 % of it; the secant's superlinear order saves a march),
@@ -562,11 +566,11 @@ def _with_flux(c, J):
     return out
 
 
-def _solve(c, stages, n_seg, P_max, limits=True) -> dict:
+def _solve(c, stages, n_seg, P_max, limits=True, tol=1e-10, narrow_to=1e-12) -> dict:
     """Feed pressure and profile of the cases of ``c`` (stage counts ``stages``), in a few groups by stage count:
     ``P``, ``reachable``, the march's profile (``x``, ``perm_salt``, ``S_b``, ``P_b``, ``lead``, ``J_out``,
     ``Sp_out``), per-stage permeate and salt (3 x cases) and, with ``limits``, ``thermo_limit`` (the driving force
-    vanishes before the end even at ``P_max``)."""
+    vanishes before the end even at ``P_max``). ``tol`` and ``narrow_to`` go to :func:`solve_feed_pressure`."""
     n = stages.size
     out = {"P": np.full(n, np.nan), "reachable": np.zeros(n, dtype=bool), "thermo_limit": np.zeros(n, dtype=bool),
            "st_perm": np.zeros((3, n)), "st_salt": np.zeros((3, n))}
@@ -575,7 +579,7 @@ def _solve(c, stages, n_seg, P_max, limits=True) -> dict:
         idx = np.flatnonzero(stages == ns)
         ci = take(c, idx)
         shares = STAGE_SHARES[int(ns)]
-        Pi, ok, prof = solve_feed_pressure(ci, shares, n_seg, profile=True)
+        Pi, ok, prof = solve_feed_pressure(ci, shares, n_seg, tol=tol, profile=True, narrow_to=narrow_to)
         out["P"][idx], out["reachable"][idx] = Pi, ok
         for key in ("x", "perm_salt", "S_b", "P_b", "lead", "J_out", "Sp_out"):
             out[key][idx] = prof[key]
@@ -611,7 +615,7 @@ def _hold_lead_flux(c, stages, n_seg, P_max, cap, sol, cases, J_floor):
     t = np.linspace(0.0, 1.0, LEAD_RUNGS)[1:]
     Jk = J0[over][:, None] * (J_floor[over][:, None] / J0[over][:, None]) ** t[None, :]      # (m, rungs - 1)
     rep = np.repeat(over, t.size)
-    s = _solve(_with_flux(take(c, rep), Jk.ravel()), stages[rep], n_seg, P_max[rep], limits=False)
+    s = _solve(_with_flux(take(c, rep), Jk.ravel()), stages[rep], n_seg, P_max[rep], limits=False, **SEARCH)
     lead = np.where(s["reachable"], s["lead"], np.inf).reshape(m, t.size)
     Js = np.concatenate([J0[over][:, None], Jk], axis=1)
     Ls = np.concatenate([sol["lead"][over][:, None], lead], axis=1)
@@ -637,7 +641,8 @@ def _hold_lead_flux(c, stages, n_seg, P_max, cap, sol, cases, J_floor):
     inner = np.flatnonzero(found)
     if inner.size:
         idx = over[inner]
-        s = _solve(_with_flux(take(c, idx), J_held[inner]), stages[idx], n_seg, P_max[idx], limits=False)
+        s = _solve(_with_flux(take(c, idx), J_held[inner]), stages[idx], n_seg, P_max[idx], limits=False,
+                   **SEARCH)
         L_h = np.where(s["reachable"], s["lead"], np.inf)
         J_o = np.where(L_h > L[inner], J_b[inner], J_a[inner])
         L_o = np.where(L_h > L[inner], L_b[inner], L_a[inner])
