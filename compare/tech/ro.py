@@ -781,7 +781,8 @@ def evaluate(feed: Feed, p: ROParameters) -> Performance:
              rs(reachable & (short if p.lead_flux_limit == "lower_flux" else prof["lead"] > cap))),
         Flag("note", "flux_lowered", "average_flux", "ro",
              "RO: the average flux is lowered below the design flux (ro.flux) to hold the lead element's flux at its "
-             "limit (ro.max_lead_flux); the membrane area rises in proportion", rs(reachable & lowered & ~short)),
+             "limit (ro.max_lead_flux) in the period that needs it most; the membrane area rises in proportion",
+             rs(reachable & lowered & ~short)),
         Flag("note", "at_restriction", "area_used_fraction", "ro",
              "RO design at the thermodynamic restriction: the outlet's net driving pressure is near zero and part "
              "of the membrane area produces almost nothing (see the area used)", rs(reachable & (prof["x"] < 1 - 1e-6))),
