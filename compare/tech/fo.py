@@ -263,19 +263,21 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     evaluations, it, worst = 2, 0, 0.0
     while active.size and it < max_iter:
         it += 1
-        Ja = J[active]
-        r, d = resid_slope(Ja, active)
+        sel = slice(None) if active.size == n else active      # every case still iterating: views, not copies
+        Ja = J[sel]
+        r, d = resid_slope(Ja, sel)
         evaluations += 1
-        done = (np.abs(r) <= tol[active]) | (hi[active] - lo[active] <= 1e-15 * J_hi[active])
-        lo[active] = np.where(r < 0, Ja, lo[active])
-        hi[active] = np.where(r > 0, Ja, hi[active])
+        done = (np.abs(r) <= tol[sel]) | (hi[sel] - lo[sel] <= 1e-15 * J_hi[sel])
+        la = np.where(r < 0, Ja, lo[sel])
+        ha = np.where(r > 0, Ja, hi[sel])
+        lo[sel], hi[sel] = la, ha
         with np.errstate(divide="ignore", invalid="ignore"):
             step = Ja - r / np.where(d > 0, d, np.nan)
-        la, ha = lo[active], hi[active]
         # a Newton step inside the (closed) bracket is taken, even onto its end; otherwise bisect
         new = np.where((step >= la) & (step <= ha), step, 0.5 * (la + ha))
-        J[active] = np.where(done, Ja, new)
-        worst = max(worst, float(np.max(np.abs(r[done]) / np.maximum(tol[active][done], 1e-300), initial=0.0)))
+        J[sel] = np.where(done, Ja, new)
+        if stats is not None:
+            worst = max(worst, float(np.max(np.abs(r[done]) / np.maximum(tol[sel][done], 1e-300), initial=0.0)))
         active = active[~done]
     if stats is not None:
         stats.update(iterations=it, evaluations=evaluations, unconverged=int(active.size), worst=worst * rtol)

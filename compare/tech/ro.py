@@ -214,13 +214,16 @@ def local_flux(dP, S_b, T, A, B, k, pi, J0=None, iterations=8, slope=False):
         J = np.maximum(A * ndp0, 0.0) if J0 is None else np.minimum(J0, np.maximum(A * ndp0, 0.0))
         J = np.maximum(J, 1e-13)
         for _ in range(iterations):
-            r, d, _ = resid(J)
+            r, d, S_p = resid(J)
             J_new = np.maximum(J - r / np.where(d > 0, d, 1.0), 1e-13)
             settled = not (np.abs(J_new - J) > FLUX_RTOL * J).any()
             J = J_new
-            if settled:                    # every case's Newton step below the tolerance (quadratic: converged)
+            if settled:
+                # every case's Newton step was below the tolerance, so J is now converged (quadratically) and the
+                # permeate and slope of the last evaluation are within that tolerance of J's own
                 break
-        r, d, S_p = resid(J)
+        else:
+            r, d, S_p = resid(J)
         off = ndp0 <= 0
         J = np.where(off, 0.0, J)
         S_p = np.where(off, S_b, S_p)
