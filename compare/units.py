@@ -15,9 +15,27 @@ from __future__ import annotations
 import functools
 import math
 import re
+import sys
 from pathlib import Path
 
-import pint
+
+def _import_pint():
+    """pint, imported without its optional dask support: pint imports dask (about 0.1 s) whenever it is installed,
+    to recognise dask arrays, which this tool never gives it. A ``None`` entry in ``sys.modules`` makes dask look
+    absent while pint is imported and is removed afterwards, so ``--scheduler`` imports dask as usual."""
+    if "dask" in sys.modules:
+        import pint
+        return pint
+    sys.modules["dask"] = None
+    try:
+        import pint
+    finally:
+        if sys.modules.get("dask", 0) is None:
+            del sys.modules["dask"]
+    return pint
+
+
+pint = _import_pint()
 
 from .errors import InputError
 

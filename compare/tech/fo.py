@@ -375,8 +375,6 @@ def _search(x):
         return np.where(np.isfinite(x) & (x > 0), 1.0 / x, 0.0) - 1.0
 
 
-#: Gauss-Legendre nodes and weights on [0, 1] for the first guess of the draw
-_NODES, _WEIGHTS = _ro._NODES, _ro._WEIGHTS
 
 
 def draw_guess(a, area_design, pi_D, pi_F):
@@ -391,7 +389,8 @@ def draw_guess(a, area_design, pi_D, pi_F):
     T, A, B, r, m = (a[x][:, None] for x in ("T", "A", "B", "r", "m_din"))
     K = (a["S_struct"] / a["D"])[:, None]
     inv_k = np.where(np.isinf(a["k"]), 0.0, 1.0 / a["k"])[:, None]
-    t = _NODES[None, :]
+    nodes, weights = _ro.gauss_points()
+    t = nodes[None, :]
     Tn = np.broadcast_to(T, (T.shape[0], t.size))
     cF = np.minimum(a["S_f"][:, None] / (1 - r * t), S_CAP)
     pF, sF = _ro._value_and_slope(pi_F)(cF, Tn)
@@ -418,8 +417,8 @@ def draw_guess(a, area_design, pi_D, pi_F):
                 step = J - g / d
                 J = np.where((step > J_lo) & (step < J_hi), step, 0.5 * (J_lo + J_hi))
             pull = np.all(J > 0, axis=1)
-            H = np.where(pull, 1.0 / np.sum(_WEIGHTS / np.where(J > 0, J, 1.0), axis=1), 0.0)
-            dH = H * H * np.sum(_WEIGHTS * A * sD * w * xD / d / np.where(J > 0, J * J, 1.0), axis=1)
+            H = np.where(pull, 1.0 / np.sum(weights / np.where(J > 0, J, 1.0), axis=1), 0.0)
+            dH = H * H * np.sum(weights * A * sD * w * xD / d / np.where(J > 0, J * J, 1.0), axis=1)
             f = H / J_design - 1
             lo, hi = np.where(f < 0, u, lo), np.where(f >= 0, u, hi)
             slope = dH / J_design

@@ -448,8 +448,16 @@ def _g(x):
         return np.where(np.isfinite(x), 1.0 / x, 0.0) - 1.0
 
 
-#: Gauss-Legendre nodes and weights on [0, 1] for the first guess of the feed pressure
-_NODES, _WEIGHTS = (lambda t, w: (0.5 * (t + 1), 0.5 * w))(*np.polynomial.legendre.leggauss(6))
+_GAUSS: list = []
+
+
+def gauss_points():
+    """Six Gauss-Legendre nodes and weights on [0, 1] (for the first guesses; computed at first use, since
+    ``numpy.polynomial`` is not otherwise imported)."""
+    if not _GAUSS:
+        t, w = np.polynomial.legendre.leggauss(6)
+        _GAUSS.extend([0.5 * (t + 1), 0.5 * w])
+    return _GAUSS[0], _GAUSS[1]
 
 
 def first_guess(c, shares):
@@ -461,7 +469,8 @@ def first_guess(c, shares):
     by Newton's method with each point's dJ/dP = A / (1 + A Pi_b exp(J / k) / k)."""
     cum = np.cumsum((0.0,) + tuple(shares))
     n_st = len(shares)
-    t = _NODES[None, :]
+    nodes, weights = gauss_points()
+    t = nodes[None, :]
     S = c["S_in"][:, None] / (1 - c["r"][:, None] * t)
     T = np.broadcast_to(c["T"][:, None], S.shape)
     inv_k = np.where(np.isinf(c["k"]), 0.0, 1.0 / c["k"])[:, None]
@@ -480,9 +489,9 @@ def first_guess(c, shares):
                 d = 1 + A * e * inv_k
                 J = np.maximum(J - (J - A * (P - drop - e)) / d, 1e-6 * J_avg)
             dJ = A / d
-            q = (_WEIGHTS / J).sum(axis=1, keepdims=True)
+            q = (weights / J).sum(axis=1, keepdims=True)
             H = 1.0 / q
-            dH = H * H * (_WEIGHTS * dJ / (J * J)).sum(axis=1, keepdims=True)
+            dH = H * H * (weights * dJ / (J * J)).sum(axis=1, keepdims=True)
             P_new = np.maximum(P - (H - J_avg) / dH, np.max(base, axis=1, keepdims=True))
             J = np.maximum(J + dJ * (P_new - P), 1e-6 * J_avg)
             P = P_new
