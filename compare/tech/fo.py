@@ -377,15 +377,15 @@ def _search(x):
 
 
 
-def draw_guess(a, area_design, pi_D, pi_F):
+def draw_guess(a, area_design, pi_D, pi_F, u_min=None, iterations=5):
     """A first guess of the draw outlet salinity u [kg/kg] of a design, and the slope of the search function in u
     there [1/(kg/kg)], without a march. Salt passage is neglected, so at permeate fraction t from the feed inlet the
     feed is S_f / (1 - r t) and the draw u (m + r) / (m + r (1 - t)); the local flux solves the closed form of
     Tiraferri et al. (2011) for linear osmotic pressures, J + B (e^{J/k} - e^{-J K}) = A (Pi_D(c_D e^{-J K}) -
     Pi_F(c_F e^{J/k})), each osmotic pressure taken on its tangent at the bulk salinity, by Newton's method
     at six Gauss points; the design asks their harmonic mean over the permeate to be the design flux, solved for u
-    by Newton's method with each point's dJ/du, kept inside [0, :data:`DRAW_LIMIT`] by bisection (within about 1 %
-    of the march's u on seawater designs)."""
+    by Newton's method with each point's dJ/du from just above ``u_min`` (the feed's osmotic equivalent), kept
+    inside [u_min, :data:`DRAW_LIMIT`] by bisection (within about 1 % of the march's u on seawater designs)."""
     T, A, B, r, m = (a[x][:, None] for x in ("T", "A", "B", "r", "m_din"))
     K = (a["S_struct"] / a["D"])[:, None]
     inv_k = np.where(np.isinf(a["k"]), 0.0, 1.0 / a["k"])[:, None]
@@ -398,24 +398,27 @@ def draw_guess(a, area_design, pi_D, pi_F):
     J_design = (r / (a["rho"][:, None] * area_design[:, None]))[:, 0]
     both = _ro._value_and_slope(pi_D)
     n = J_design.size
-    lo, hi = np.zeros(n), np.full(n, DRAW_LIMIT)
-    u = np.full(n, 0.5 * DRAW_LIMIT)
+    lo = np.zeros(n) if u_min is None else np.asarray(u_min, dtype=float).copy()
+    hi = np.full(n, DRAW_LIMIT)
+    u = np.minimum(np.maximum(1.05 * lo, 0.01), 0.5 * (lo + hi))
     slope = np.full(n, np.nan)
     J = np.zeros(Tn.shape)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-        for _ in range(12):
+        for _ in range(iterations):
             cD = np.minimum(u[:, None] * w, S_CAP)
             pD, sD = both(cD, Tn)
-            # the residual is negative at J = 0 where the draw is the stronger, and positive at the ideal flux
+            # the residual is negative at J = 0 where the draw is the stronger, positive at the ideal flux, and
+            # concave (internal polarisation saturates): Newton from J = 0 climbs to the root from below
             J_lo, J_hi = np.zeros(J.shape), np.maximum(A * (pD - pF), 0.0)
-            J = np.where((J > 0) & (J < J_hi), J, 0.5 * J_hi)
+            J = np.zeros(J.shape)
             for _ in range(6):
                 xD, xF = np.exp(-J * K), np.exp(np.minimum(J * inv_k, 50.0))
                 d = 1 + B * (xF * inv_k + K * xD) + A * (K * sD * cD * xD + sF * cF * xF * inv_k)
                 g = J + B * (xF - xD) - A * (pD + sD * cD * (xD - 1) - pF - sF * cF * (xF - 1))
                 J_lo, J_hi = np.where(g < 0, J, J_lo), np.where(g > 0, J, J_hi)
                 step = J - g / d
-                J = np.where((step > J_lo) & (step < J_hi), step, 0.5 * (J_lo + J_hi))
+                J = np.where((step >= J_lo) & (step <= J_hi), step, 0.5 * (J_lo + J_hi))   # closed: at a root
+                # of rounding size the step stays put
             pull = np.all(J > 0, axis=1)
             H = np.where(pull, 1.0 / np.sum(weights / np.where(J > 0, J, 1.0), axis=1), 0.0)
             dH = H * H * np.sum(weights * A * sD * w * xD / d / np.where(J > 0, J * J, 1.0), axis=1)
@@ -423,7 +426,7 @@ def draw_guess(a, area_design, pi_D, pi_F):
             lo, hi = np.where(f < 0, u, lo), np.where(f >= 0, u, hi)
             slope = dH / J_design
             step = u - f / slope
-            u = np.where(pull & (slope > 0) & (step > lo) & (step < hi), step, 0.5 * (lo + hi))
+            u = np.where(pull & (slope > 0) & (step >= lo) & (step <= hi), step, 0.5 * (lo + hi))
     return u, slope
 
 
@@ -441,7 +444,7 @@ def design_draw(a, area_design, pi_D, pi_F, steps, tol=1e-10, max_iter=60):
     n = a["S_f"].size
     lo = _equivalent_draw(a["S_f"], a["T"], pi_D, pi_F)
     hi = np.full(n, np.inf)
-    u0, slope0 = draw_guess(a, area_design, pi_D, pi_F)
+    u0, slope0 = draw_guess(a, area_design, pi_D, pi_F, lo)
     trial = np.clip(u0, lo, DRAW_LIMIT)
     u = np.full(n, DRAW_LIMIT)
     within = np.ones(n, dtype=bool)
