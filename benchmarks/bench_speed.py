@@ -1,16 +1,18 @@
 """Speed figures of sweeps and single runs, printed as ratios to their targets in one run.
 
-Run by hand: ``python benchmarks/bench_speed.py [--quick] [--million]``. Uses the fictional Gull Harbour scenario at
-one feed temperature (28 degC) and its [uncertainty] section. Times are CPU seconds of the process doing the work
-(``time.process_time``; for commands, the child's user + system time), so that a busy machine changes them little;
+Run by hand: ``python benchmarks/bench_speed.py [--quick]`` (``--quick``: sizes to 20,000 and no 10^6 run; the full
+run takes a few minutes). Uses the fictional Gull Harbour scenario at one feed temperature (28 degC) and its
+[uncertainty] section. Times are CPU seconds of the process doing the work
+(``time.process_time``; for commands, the child's user + system time), best of several runs, so that a busy machine
+changes them little (the load average is printed at the start and the end);
 the 10^6-sample run with two workers is also given in wall time, with the peak resident memory of the whole process
 tree (sampled every 0.2 s). A ratio below 1 meets its target.
 
 - CPU per sample of the full three-technology sweep (target 0.25 ms);
-- per-case cost from 2,000 to 200,000 cases (``--quick``: to 20,000), each size against the smallest (target 1.5);
+- per-case cost from 2,000 to 200,000 cases (``--quick``: to 20,000), the smallest against the largest (target 1.5);
 - a single RO case after the first run (target 5 ms);
 - ``desal compare`` on the demo (warm cache) against ``python -c "import numpy, pandas, scipy"`` (target 3);
-- with ``--million``: 10^6 samples with ``--workers 2`` (targets 60 s wall, 1 GB peak).
+- 10^6 samples with ``--workers 2`` (targets 60 s wall, 1 GB peak), unless ``--quick``.
 """
 
 import os
@@ -26,10 +28,10 @@ SCENARIO = ROOT / "scenarios" / "gull-harbour.toml"
 ONE_T = ["feed.temperature=28 degC"]
 
 
-def _cpu_of(cmd: list[str], env=None) -> float:
-    """User + system CPU seconds of a child command (best of three after one warm-up)."""
+def _cpu_of(cmd: list[str], env=None, repeats: int = 5) -> float:
+    """User + system CPU seconds of a child command (best of ``repeats`` after one warm-up)."""
     best = float("inf")
-    for i in range(4):
+    for i in range(repeats + 1):
         before = resource.getrusage(resource.RUSAGE_CHILDREN)
         subprocess.run(cmd, cwd=ROOT, env=env, check=True, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
         after = resource.getrusage(resource.RUSAGE_CHILDREN)
@@ -38,14 +40,18 @@ def _cpu_of(cmd: list[str], env=None) -> float:
     return best
 
 
-def _per_sample(n: int, chunk=None) -> float:
+def _per_sample(n: int, chunk=None, repeats: int = 1) -> float:
+    """CPU seconds per sample of a sweep of ``n`` samples (best of ``repeats``)."""
     from compare import sweep as sw
     from compare.scenario import load
     s = load(SCENARIO, ONE_T)
-    plan = sw.sampler(s, n, seed=1)
-    t0 = time.process_time()
-    sw.run(s, plan, mode="samples", chunk=chunk)
-    return (time.process_time() - t0) / n
+    best = float("inf")
+    for _ in range(repeats):
+        plan = sw.sampler(s, n, seed=1)
+        t0 = time.process_time()
+        sw.run(s, plan, mode="samples", chunk=chunk)
+        best = min(best, time.process_time() - t0)
+    return best / n
 
 
 def _tree_rss(pid: int) -> float:
@@ -91,40 +97,50 @@ def million(n: int = 1_000_000, workers: int = 2) -> None:
           f"process tree (target 1024 MB, ratio {peak[0] / 1024:4.2f}); load average {os.getloadavg()[0]:.1f}")
 
 
-def main(quick: bool = False, with_million: bool = False) -> None:
+def _load() -> str:
+    one, five, fifteen = os.getloadavg()
+    return f"load average {one:.1f} / {five:.1f} / {fifteen:.1f} (1 / 5 / 15 min) on {os.cpu_count()} cores"
+
+
+def main(quick: bool = False, with_million: bool = True) -> None:
     from compare.pipeline import evaluate
     from compare.scenario import load
+    from compare.thermo import floor
 
-    print(f"load average at start: {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores (CPU times, so load matters "
-          f"little)")
+    print(f"at start: {_load()}; CPU times, best of several runs, so other jobs change them little")
     _per_sample(5_000)                       # imports, tables, numba (compiled or loaded from its cache)
-    per = _per_sample(20_000)
+    print(f"compiled table lookup: {'numba' if floor._KERNEL and floor._KERNEL[0] is not None else 'none (numpy)'}")
+    per = _per_sample(20_000, repeats=3)
     print(f"full RO + MED + FO sample at one temperature: {per * 1e3:6.3f} ms CPU "
-          f"(target 0.25 ms, ratio {per * 1e3 / 0.25:5.2f}; 1.3 ms before this work)")
+          f"(target 0.25 ms, ratio {per * 1e3 / 0.25:5.2f}; 1.3 ms at the issue, 0.52 ms before the solver work)")
 
     sizes = [2_000, 20_000] if quick else [2_000, 20_000, 200_000]
-    costs = {n: _per_sample(n) for n in sizes}
-    base = costs[sizes[0]]
-    print("per-case cost against 2,000 cases (target 1.5): "
-          + ", ".join(f"{n:,}: {c * 1e3:.3f} ms ({c / base:4.2f})" for n, c in costs.items()))
+    costs = {n: _per_sample(n, repeats=5 if n <= 2_000 else 3 if n <= 20_000 else 1) for n in sizes}
+    base, largest = costs[sizes[0]], costs[sizes[-1]]
+    print("per-case cost (target: within 1.5 from 2,000 to 200,000): "
+          + ", ".join(f"{n:,}: {c * 1e3:.3f} ms" for n, c in costs.items())
+          + f"; 2,000 against {sizes[-1]:,}: {base / largest:4.2f} (2.4 before)")
 
     s = load(SCENARIO, ONE_T + ["med.enabled=false", "fo.enabled=false"])
     evaluate(s)
     times = []
-    for _ in range(10):
+    for _ in range(20):
         t0 = time.process_time()
         evaluate(s)
         times.append(time.process_time() - t0)
     t_ro = min(times)
-    print(f"one RO case after the first: {t_ro * 1e3:6.1f} ms CPU (target 5 ms, ratio {t_ro * 1e3 / 5:5.2f})")
+    print(f"one RO case through the pipeline, after the first: {t_ro * 1e3:6.1f} ms CPU (target 5 ms, ratio "
+          f"{t_ro * 1e3 / 5:5.2f}; 42-97 ms before)")
 
     base_cmd = _cpu_of([sys.executable, "-c", "import numpy, pandas, scipy"])
     desal = _cpu_of([sys.executable, "-m", "compare", "compare", str(SCENARIO), "--no-save"])
     print(f"desal compare on the demo (warm cache): {desal:5.2f} s CPU; import numpy, pandas, scipy: "
-          f"{base_cmd:5.2f} s; ratio {desal / base_cmd:4.2f} (target 3, ratio to it {desal / base_cmd / 3:4.2f})")
+          f"{base_cmd:5.2f} s; ratio {desal / base_cmd:4.2f} (target 3, ratio to it {desal / base_cmd / 3:4.2f}; "
+          f"3.6 before)")
     if with_million:
         million()
+    print(f"at end: {_load()}")
 
 
 if __name__ == "__main__":
-    main(quick="--quick" in sys.argv, with_million="--million" in sys.argv)
+    main(quick="--quick" in sys.argv, with_million="--quick" not in sys.argv)
