@@ -233,39 +233,38 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     c_D, c_F, T, A, B, K, k = (x.ravel() for x in (c_D, c_F, T, A, B, S_struct / D, k))
     inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
 
-    def resid(J, i):
-        _, cDi, cFm = _interfaces(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
-        return J - A[i] * (pi_D(np.clip(cDi, 0.0, S_CAP), T[i]) - pi_F(np.clip(cFm, 0.0, S_CAP), T[i]))
-
     both_D, both_F = _ro._value_and_slope(pi_D), _ro._value_and_slope(pi_F)
 
     def resid_slope(J, i):
-        _, cDi, cFm, dD, dF = _interfaces_slope(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
+        Js, cDi, cFm, dD, dF = _interfaces_slope(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
         pD, sD = both_D(np.minimum(np.maximum(cDi, 0.0), S_CAP), T[i])
         pF, sF = both_F(np.minimum(np.maximum(cFm, 0.0), S_CAP), T[i])
         sD = np.where((cDi > 0) & (cDi < S_CAP), sD * dD, 0.0)
         sF = np.where((cFm > 0) & (cFm < S_CAP), sF * dF, 0.0)
-        return J - A[i] * (pD - pF), 1.0 - A[i] * (sD - sF)
+        return J - A[i] * (pD - pF), 1.0 - A[i] * (sD - sF), Js, cDi, cFm
 
     rtol = FLUX_RTOL if rtol is None else rtol
     n = c_D.size
-    everyone = np.arange(n)
     J_hi = A * (pi_D(np.clip(c_D, 0.0, S_CAP), T) - pi_F(np.clip(c_F, 0.0, S_CAP), T))
     tol = rtol * np.abs(J_hi)
     # a positive root exists where the residual is negative just above J = 0 (the bracket's other end has
-    # r(J_hi) >= 0: polarisation and salt passage only lower the driving force)
-    on = (J_hi > 0) & (resid(np.full(n, 1e-30), everyone) < 0)
+    # r(J_hi) >= 0: polarisation and salt passage only lower the driving force); the interfaces as J -> 0 in closed
+    # form: (e^{J/k} - 1)/J -> 1/k, (1 - e^{-J K})/J -> K
+    Js0 = B * (c_D - c_F) / (1.0 + B * (inv_k + K))
+    r0 = -A * (pi_D(np.clip(c_D - Js0 * K, 0.0, S_CAP), T) - pi_F(np.clip(c_F + Js0 * inv_k, 0.0, S_CAP), T))
+    on = (J_hi > 0) & (r0 < 0)
     lo, hi = np.zeros(n), np.where(on, J_hi, 0.0)
     J = 0.5 * hi if J0 is None else np.clip(np.broadcast_to(np.asarray(J0, dtype=float), shape).ravel(),
                                              0.02 * hi, 0.98 * hi)
     J = np.where(on, J, 0.0)
     active = np.flatnonzero(on)
     evaluations, it, worst = 2, 0, 0.0
+    Js, cDi, cFm = np.zeros(n), c_D.copy(), c_F.copy()         # at the solution (no flux: the bulk)
     while active.size and it < max_iter:
         it += 1
         sel = slice(None) if active.size == n else active      # every case still iterating: views, not copies
         Ja = J[sel]
-        r, d = resid_slope(Ja, sel)
+        r, d, Js_a, cDi_a, cFm_a = resid_slope(Ja, sel)
         evaluations += 1
         done = (np.abs(r) <= tol[sel]) | (hi[sel] - lo[sel] <= 1e-15 * J_hi[sel])
         la = np.where(r < 0, Ja, lo[sel])
@@ -276,12 +275,17 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
         # a Newton step inside the (closed) bracket is taken, even onto its end; otherwise bisect
         new = np.where((step >= la) & (step <= ha), step, 0.5 * (la + ha))
         J[sel] = np.where(done, Ja, new)
+        # a settled case keeps J, so its interfaces are those just computed
+        settled = active[done]
+        Js[settled], cDi[settled], cFm[settled] = Js_a[done], cDi_a[done], cFm_a[done]
         if stats is not None:
             worst = max(worst, float(np.max(np.abs(r[done]) / np.maximum(tol[sel][done], 1e-300), initial=0.0)))
         active = active[~done]
     if stats is not None:
         stats.update(iterations=it, evaluations=evaluations, unconverged=int(active.size), worst=worst * rtol)
-    Js, cDi, cFm = _interfaces(J, c_D, c_F, B, inv_k, K)
+    if active.size:                                             # unsettled after every iteration
+        Js[active], cDi[active], cFm[active] = _interfaces(J[active], c_D[active], c_F[active], B[active],
+                                                           inv_k[active], K[active])
     off = ~on
     rs = lambda x: x.reshape(shape)  # noqa: E731
     return (rs(np.where(off, 0.0, J)), rs(np.where(off, 0.0, Js)), rs(np.where(off, c_D, cDi)),
