@@ -313,13 +313,16 @@ def _march(u, a, pi_D, pi_F, steps):
     J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T, A, B, Ss, D, k, pi_D, pi_F)
     area, passed = np.zeros(u.size), np.zeros(u.size)
     margin = pi_D(sd / md, T) - pi_F(sf / Qf, T)
+    J_prev = J0
     with np.errstate(divide="ignore", invalid="ignore"):
         for _ in range(steps):
-            # predictor: the states at the end of the step with the salt flux at its start
+            # predictor: the states at the end of the step with the salt flux at its start; the flux solve starts
+            # from the flux extrapolated along the last step
             ds_pred = Js0 * dm / np.maximum(J0, 1e-30)
             Qf1, md1 = Qf - dm, md - dm
             J1, Js1, _, _ = local_flux((sd + ds_pred) / md1, (sf + ds_pred) / Qf1, T, A, B, Ss, D, k,
-                                       pi_D, pi_F, J0=J0)
+                                       pi_D, pi_F, J0=2 * J0 - J_prev)
+            J_prev = J0
             dA = dm / rho * _ro._log_mean_inverse(J0, J1)
             ds = rho * 0.5 * (Js0 + Js1) * np.where(np.isfinite(dA), dA, 0.0)
             area, passed = area + dA, passed + ds

@@ -382,7 +382,7 @@ def _march(P_feed, c, shares, n_seg, full=False):
             x_pred = np.minimum(x + dm * scale * _log_mean_inverse(J0, J_guess), cum[-1])
             P1, _ = pressure(x_pred)
             S_b1 = (salt - dm * Sp0) / (Q - dm)
-            J1, Sp1, a1 = local_flux(P1, S_b1, T, A, B, k, pi, J0, slope=True)
+            J1, Sp1, a1 = local_flux(P1, S_b1, T, A, B, k, pi, J_guess, slope=True)
             x1 = x + dm * scale * _log_mean_inverse(J0, J1)
             # corrector: the flux at the end is that of the pressure where the step really ends (further along
             # where the flux collapses near the restriction): x1 = f(x1), f(x) = x0 + dm scale LM(J0, J1(x)), an
