@@ -418,7 +418,7 @@ def draw_guess(a, area_design, pi_D, pi_F, u_min=None, iterations=5):
             # concave (internal polarisation saturates): Newton from J = 0 climbs to the root from below
             J_lo, J_hi = np.zeros(J.shape), np.maximum(A * (pD - pF), 0.0)
             J = np.zeros(J.shape)
-            for _ in range(6):
+            for _ in range(4):
                 xD, xF = np.exp(-J * K), np.exp(np.minimum(J * inv_k, 50.0))
                 d = 1 + B * (xF * inv_k + K * xD) + A * (K * sD * cD * xD + sF * cF * xF * inv_k)
                 g = J + B * (xF - xD) - A * (pD + sD * cD * (xD - 1) - pF - sF * cF * (xF - 1))

@@ -483,7 +483,7 @@ def first_guess(c, shares):
     P = np.max(pi_b * np.exp(np.minimum(J_avg * inv_k, 30.0)) + drop, axis=1, keepdims=True) + J_avg / A
     J = np.maximum(A * (P - base), 1e-6 * J_avg)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-        for _ in range(6):
+        for _ in range(4):
             for _ in range(3):
                 e = pi_b * np.exp(np.minimum(J * inv_k, 30.0))
                 d = 1 + A * e * inv_k
