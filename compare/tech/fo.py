@@ -180,8 +180,9 @@ def _interfaces_slope(J, c_D, c_F, B, inv_k, K):
     """:func:`_interfaces` with the derivatives of the two interface salinities in J (for Newton's method)."""
     Jc = np.maximum(J, 1e-30)
     with np.errstate(over="ignore", invalid="ignore"):
-        a = np.where(inv_k > 0, np.expm1(np.minimum(Jc * inv_k, 50.0)) / Jc, 0.0)
-        b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)
+        # (no branch for 1/k = 0 or K = 0: expm1(0) = 0 gives a = 0 and b = -0.0, which change no sum)
+        a = np.expm1(np.minimum(Jc * inv_k, 50.0)) / Jc
+        b = -np.expm1(-Jc * K) / Jc
     e_F, e_D = 1.0 + Jc * a, 1.0 - Jc * b
     da = (e_F * inv_k - a) / Jc                          # d/dJ of (e^{J/k} - 1)/J
     db = (K * e_D - b) / Jc                              # d/dJ of (1 - e^{-J K})/J
@@ -275,9 +276,8 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
         # a Newton step inside the (closed) bracket is taken, even onto its end; otherwise bisect
         new = np.where((step >= la) & (step <= ha), step, 0.5 * (la + ha))
         J[sel] = np.where(done, Ja, new)
-        # a settled case keeps J, so its interfaces are those just computed
-        settled = active[done]
-        Js[settled], cDi[settled], cFm[settled] = Js_a[done], cDi_a[done], cFm_a[done]
+        # a settled case keeps J, so its interfaces are those just computed (the others' are overwritten later)
+        Js[sel], cDi[sel], cFm[sel] = Js_a, cDi_a, cFm_a
         if stats is not None:
             worst = max(worst, float(np.max(np.abs(r[done]) / np.maximum(tol[sel][done], 1e-300), initial=0.0)))
         active = active[~done]
