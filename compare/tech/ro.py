@@ -336,7 +336,7 @@ def _log_mean_slopes(J0, J1, lm):
         return np.where(near, half, (1 / J0 - lm) / diff), np.where(near, half, (lm - 1 / J1) / diff)
 
 
-def _march(P_feed, c, shares, n_seg, full=False):
+def _march(P_feed, c, shares, n_seg, full=False, slope=True):
     """March the vessel train from the membrane feed to recovery ``c["r"]`` in equal steps of permeate, at feed
     pressure P_feed (gauge) [Pa], per kg/s of membrane feed.
 
@@ -344,7 +344,8 @@ def _march(P_feed, c, shares, n_seg, full=False):
     with ``full``, the rest of the profile: permeate salt, brine salinity and pressure, per-stage permeate and salt,
     the lead element's average flux, and ``dx_dP``, the sensitivity of x to the feed pressure [1/Pa], carried along
     the march (each step's log-mean area with the local fluxes' slopes, dJ/dP = A / (residual's slope), and the
-    pressure drop over the step's own area; the salt passed is held), for Newton's method on the feed pressure.
+    pressure drop over the step's own area; the salt passed is held; zero unless ``slope``), for Newton's method
+    on the feed pressure.
     """
     n_st = len(shares)
     cum = np.cumsum((0.0,) + tuple(shares))
@@ -393,10 +394,11 @@ def _march(P_feed, c, shares, n_seg, full=False):
             # vanishes means the step cannot be completed (x1 = inf). Only the cases still moving are solved.
             x1, J1, Sp1, a1 = _correct(x, x_pred, x1, J0, J1, Sp0, Sp1, a1, dm, scale, salt, Q, c, pi, pressure,
                                        cum[-1])
-            if full:
+            if full and slope:
                 # sensitivity: y1 = y0 + K (L0 dJ0/dP + L1 a1 (1 - d1 y1)), d1 the pressure's slope in x at x1
+                # (the step's log-mean from its area: a slope needs no last bit)
                 K = dm * scale
-                L0, L1 = _log_mean_slopes(J0, J1, _log_mean_inverse(J0, J1))
+                L0, L1 = _log_mean_slopes(J0, J1, (x1 - x) / K)
                 if n_st > 1:
                     s1 = np.clip(np.searchsorted(cum, x1, side="right") - 1, 0, n_st - 1)
                     d1 = np.where(x1 < cum[-1], np.take_along_axis(rate, s1[None, :], 0)[0], 0.0)
@@ -527,7 +529,9 @@ def solve_feed_pressure(c, shares, n_seg, tol=1e-10, max_iter=60, profile=False,
         if active.size == 0:
             break
         Pa = trial[active]
-        o = _march(Pa, take(c, active), shares, n_seg, full=True)
+        # the march's slope is used only until the trial before is close enough for the secant
+        o = _march(Pa, take(c, active), shares, n_seg, full=True,
+                   slope=bool((~(np.abs(g_old[active]) < SECANT_FROM)).any()))
         x, y = o["x"], o["dx_dP"]
         g = _g(x)
         upper = g > 0
