@@ -18,6 +18,8 @@ import re
 import sys
 from pathlib import Path
 
+from .errors import InputError
+
 
 def _import_pint():
     """pint, imported without its optional dask support: pint imports dask (about 0.1 s) whenever it is installed,
@@ -36,8 +38,6 @@ def _import_pint():
 
 
 pint = _import_pint()
-
-from .errors import InputError
 
 CURRENCIES = ("USD", "EUR", "GBP", "JPY", "CNY", "INR", "AUD", "CAD", "CHF", "ZAR", "SAR", "AED", "BRL", "MXN", "CLP")
 

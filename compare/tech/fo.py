@@ -448,8 +448,9 @@ def design_draw(a, area_design, pi_D, pi_F, steps, tol=1e-10, max_iter=60):
     -1 where the flux vanishes before the recovery). From :func:`draw_guess`, a Newton step with the guess's slope,
     then secant steps through the last two trials, inside a bracket that starts between the feed's osmotic
     equivalent and the limit: a step that leaves the bracket or does not halve the last move bisects (or, before
-    any trial had enough area, moves halfway to the limit), a trial where the flux vanishes bisects, a case settles when |f| <= ``tol`` or the bracket is narrower than 1e-13 of u, and a trial at the limit
-    that still lacks area means the design is beyond it. The march returned is the last one on the feasible side."""
+    any trial had enough area, moves halfway to the limit), a trial where the flux vanishes bisects, a case
+    settles when |f| <= ``tol`` or the bracket is narrower than 1e-13 of u, and a trial at the limit that still
+    lacks area means the design is beyond it. The march returned is the last one on the feasible side."""
     n = a["S_f"].size
     lo = _equivalent_draw(a["S_f"], a["T"], pi_D, pi_F)
     hi = np.full(n, np.inf)
