@@ -206,7 +206,7 @@ def flux_residual(J, c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F):
 
 
 def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None, max_iter=FLUX_MAX_ITER,
-               stats=None):
+               stats=None, prepared=None):
     """Water flux J [m/s], reverse salt flux J_s [m/s x kg/kg] and the salinities at the two faces of the active
     layer (c_D,i, c_F,m) [kg/kg] of an FO membrane in FO mode, with bulk draw c_D and feed c_F [kg/kg] beside it.
     Vectorised; every argument broadcasts.
@@ -227,13 +227,19 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     ``pi_D(c, T)`` and ``pi_F(c, T)`` give osmotic pressures [Pa]; ``k = inf`` means no external polarisation,
     ``S_struct = 0`` no internal polarisation, ``B = 0`` no salt passage. Where no positive flux solves the
     equation (the draw is not stronger than the feed across the active layer), J = 0. ``stats`` (a dict), if given,
-    receives the number of iterations and residual evaluations and the largest scaled residual.
+    receives the number of iterations and residual evaluations and the largest scaled residual. ``prepared``
+    (the exchanger's march, which calls this at every step) is (K, 1/k) for inputs that are already 1-D float
+    arrays of one size, so that nothing is broadcast or recomputed per call.
     """
-    c_D, c_F, T, A, B, S_struct, D, k = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
-        c_D, c_F, T, A, B, S_struct, D, k)))
-    shape = c_D.shape
-    c_D, c_F, T, A, B, K, k = (x.ravel() for x in (c_D, c_F, T, A, B, S_struct / D, k))
-    inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
+    if prepared is not None:
+        K, inv_k = prepared
+        shape = c_D.shape
+    else:
+        c_D, c_F, T, A, B, S_struct, D, k = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+            c_D, c_F, T, A, B, S_struct, D, k)))
+        shape = c_D.shape
+        c_D, c_F, T, A, B, K, k = (x.ravel() for x in (c_D, c_F, T, A, B, S_struct / D, k))
+        inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
 
     both_D, both_F = _ro._value_and_slope(pi_D), _ro._value_and_slope(pi_F)
 
@@ -312,7 +318,8 @@ def _march(u, a, pi_D, pi_F, steps):
     Qf, sf = np.ones(u.size), a["S_f"].copy()
     md = m + r
     sd = u * md
-    J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T, A, B, Ss, D, k, pi_D, pi_F)
+    pre = (Ss / D, np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k)))   # as local_flux makes them
+    J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T, A, B, Ss, D, k, pi_D, pi_F, prepared=pre)
     area, passed = np.zeros(u.size), np.zeros(u.size)
     margin = pi_D(sd / md, T) - pi_F(sf / Qf, T)
     J_prev = J0
@@ -323,7 +330,7 @@ def _march(u, a, pi_D, pi_F, steps):
             ds_pred = Js0 * dm / np.maximum(J0, 1e-30)
             Qf1, md1 = Qf - dm, md - dm
             J1, Js1, _, _ = local_flux((sd + ds_pred) / md1, (sf + ds_pred) / Qf1, T, A, B, Ss, D, k,
-                                       pi_D, pi_F, J0=2 * J0 - J_prev)
+                                       pi_D, pi_F, J0=2 * J0 - J_prev, prepared=pre)
             J_prev = J0
             dA = dm / rho * _ro._log_mean_inverse(J0, J1)
             ds = rho * 0.5 * (Js0 + Js1) * np.where(np.isfinite(dA), dA, 0.0)
