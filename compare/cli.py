@@ -123,7 +123,9 @@ def cmd_floor(args) -> int:
     if args.strict:
         bad = [f for f in rec["flags"] if f["kind"] == "out_of_range"]
         if bad:
-            raise InputError(f"--strict: out_of_range {bad[0]['code']} ({bad[0]['model']}): {bad[0]['message']}")
+            from .flags import strict_text
+            raise InputError(f"--strict: out_of_range {bad[0]['code']} ({bad[0]['model']}): "
+                             f"{strict_text(bad[0]['message'])}")
     rec["notice"] = CAUTION
 
     feed_rows = [

@@ -99,3 +99,10 @@ def at(flags, i) -> list[Flag]:
     """The flags that hold for case ``i`` of 1-d masks."""
     return [f for f in flags if bool(np.asarray(f.mask, dtype=bool).reshape(-1)[i]
                                       if np.ndim(f.mask) else f.mask)]
+
+
+def strict_text(message: str) -> str:
+    """An out-of-range message as ``--strict`` refuses it: not extrapolated, refused."""
+    for tail in ("; the value is extrapolated", "; extrapolated"):
+        message = message.replace(tail, "")
+    return f"{message}; refused (--strict)"

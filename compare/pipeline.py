@@ -16,7 +16,7 @@ import numpy as np
 from . import accounting as acc
 from . import costing
 from .errors import InputError
-from .flags import Flag, reduce_cases
+from .flags import Flag, reduce_cases, strict_text
 from .scenario import FEED_TEMPERATURE, Scenario
 from .concentrate import Chemistry, assess, scaling
 from .schema import AT_LIMIT
@@ -220,4 +220,5 @@ def check_strict(result: RunResult) -> None:
     """Raise a one-line input error naming the first ``out_of_range`` flag (``--strict``)."""
     f = strict_flag(result)
     if f is not None:
-        raise InputError(f"--strict: {result.scenario.name}: {f.kind} {f.code} ({f.model}): {f.message}")
+        raise InputError(f"--strict: {result.scenario.name}: {f.kind} {f.code} ({f.model}): {strict_text(f.message)}")
+

@@ -258,11 +258,14 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
 
     for sec, body in data.items():
         if sec not in specs:
-            errors.append(f"{label}: [{sec}]: unknown section{nearest(sec, specs)}")
+            hint = nearest(sec, specs) or (f" (the sections are {', '.join(f'[{k}]' for k in specs)}, "
+                                           "[uncertainty], [correlation] and [claim])")
+            errors.append(f"{label}: [{sec}]: expected a known section, got an unknown one{hint}")
         elif not isinstance(body, dict):
             errors.append(f"{label}: {sec}: expected a table [{sec}], got {body!r}")
 
     values: dict[str, dict[str, Any]] = {}
+    slips: set[str] = set()      # keys an unknown key was probably meant as: their absence is the same slip
     ctx = {"currency": "USD", "temperature": 298.15, "water": "seawater"}
     first = ["finance", "feed", "site", "product", "energy"]
     order = first + [s for s in specs if s not in first]
@@ -273,6 +276,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
         for key in body:
             if key not in specs[sec]:
                 errors.append(f"{label}: {sec}.{key}: unknown key{nearest(key, specs[sec])}")
+                slips.update(f"{sec}.{k}" for k in difflib.get_close_matches(key, list(specs[sec]), n=1, cutoff=0.5))
         values[sec] = {}
         for key in _resolve_order(specs[sec]):
             spec = specs[sec][key]
@@ -334,6 +338,7 @@ def resolve(data: dict, *, label: str, path: str | None = None, sha256: str | No
                                         else [], label, errors)
     claims = parse_claims(claims_raw, label, errors, technologies=[s for s in specs if s not in SITE_SECTIONS]) \
         if claims_raw is not None else ()
+    errors = [e for e in errors if not any(e.startswith(f"{label}: {d}: required") for d in slips)]
     if errors:
         raise InputErrors(errors)
     if not name:

@@ -24,7 +24,10 @@ def check_bounds(spec: Spec, value: float, where: str, raw) -> None:
     lo_bad = spec.lo is not None and (value <= spec.lo if spec.lo_open else value < spec.lo)
     hi_bad = spec.hi is not None and (value >= spec.hi if spec.hi_open else value > spec.hi)
     if lo_bad or hi_bad:
-        raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}")
+        why = ""
+        if lo_bad and spec.lo == 0:
+            why = " (it must be above zero)" if spec.lo_open else " (it must not be negative)"
+        raise InputError(f"{where}: expected {spec.expect}, got {_show(raw)}{why}")
 
 
 def _show(raw) -> str:

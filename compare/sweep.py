@@ -712,7 +712,7 @@ def grid_points(sr: SweepResult) -> list[dict]:
 
 
 def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
-    """The JSON summary of DESIGN's contract (with a ``sensitivity`` section when one was computed)."""
+    """The JSON summary of the contract (with a ``sensitivity`` section when one was computed)."""
     from .present import CAUTION
     body = {"scenario": sr.scenario.name, "cases": sr.n, "mode": sr.mode, "varied": list(sr.cases),
             "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "flags": sr.flags,
@@ -740,11 +740,12 @@ __all__ = ["Axis", "SweepResult", "parse_vary", "grid_cases", "sample_cases", "s
 #: technology evaluations (cases x technologies x periods) a sweep runs without being told to go on
 MAX_EVALUATIONS = 10_000_000
 #: measured on the development machine (benchmarks/bench_sweep.py): kept metrics per case and technology, a row of
-#: cases.csv, the working set of one chunk, the time of one technology evaluation
+#: cases.csv, the working set of one chunk, the CPU time of one technology evaluation (benchmarks/bench_speed.py,
+#: 2026-12-02: 0.15 ms per RO + MED + FO sample, rounded up)
 BYTES_KEPT_PER_ROW = 64
 BYTES_CSV_PER_ROW = 450
 BYTES_CHUNK = 400e6
-SECONDS_PER_EVALUATION = 2.6e-4
+SECONDS_PER_EVALUATION = 6e-5
 
 
 def size_estimate(scenario: Scenario, n_cases: int) -> dict:

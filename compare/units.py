@@ -190,9 +190,18 @@ def parse_quantity(text, *, where: str, expect: str, dimension: str | None = Non
     else:
         raise InputError(f"{where}: expected {expect}, got {_shown(text)}")
     if dimension is not None and q.dimensionality != ureg.get_dimensionality(dimension):
-        raise InputError(f'{where}: expected {expect}, got "{text}" (its dimension is {q.dimensionality}, '
-                         f'not {dimension})')
+        raise InputError(f'{where}: expected {expect}, got "{text}" ({_mismatch(q, dimension)})')
     return q
+
+
+def _mismatch(q, wanted: str) -> str:
+    """Why a quantity does not fit, in words: its unit as read and, for the usual slips, what to write instead."""
+    read = str(q.units) or "no unit"
+    hint = ""
+    if "kelvin" in wanted or "temperature" in wanted:
+        if read in ("coulomb", "farad", "fahrenheit", "celsius") or read.startswith("coulomb"):
+            hint = '; write "degC" for Celsius or "degF" for Fahrenheit'
+    return f"its unit reads as {read}, which does not convert to {wanted}{hint}"
 
 
 def _shown(value) -> str:
@@ -207,8 +216,7 @@ def to_si(text, unit: str, *, where: str, expect: str) -> float:
     q = parse_quantity(text, where=where, expect=expect)
     target = ureg.Unit(unit)
     if q.dimensionality != target.dimensionality:
-        raise InputError(f'{where}: expected {expect}, got "{text}" (its dimension is {q.dimensionality}, '
-                         f'not that of {unit})')
+        raise InputError(f'{where}: expected {expect}, got "{text}" ({_mismatch(q, unit)})')
     v = float(q.to(target).magnitude)
     if not math.isfinite(v):
         raise InputError(f'{where}: expected {expect} (a finite number), got "{text}"')

@@ -14,7 +14,7 @@ from compare.pipeline import evaluate
 from compare.scenario import resolve
 from compare.present.records import records
 
-#: the contract's record fields (DESIGN, "Output record")
+#: the contract's record fields (the output record)
 RECORD_FIELDS = (
     "technology", "feasible", "recovery", "product_salinity_g_per_kg", "brine_salinity_g_per_kg",
     "electricity_kwh_per_m3", "heat_kwh_per_m3", "heat_temperature_c", "work_equivalent_kwh_per_m3",

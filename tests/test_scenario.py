@@ -21,7 +21,7 @@ temperature = "25 degC"
 MALFORMED = {
     # name: (text, expected fragment of the one line)
     "toml_syntax": ("[site\ncapacity = 1", "TOML syntax"),
-    "unknown_section": (GOOD + "[sitee]\nx = 1\n", "[sitee]: unknown section"),
+    "unknown_section": (GOOD + "[sitee]\nx = 1\n", "[sitee]: expected a known section, got an unknown one (did you mean 'site'?)"),
     "unknown_key_suggests": (GOOD.replace('capacity = "20000 m^3/day"',
                                           'capacity = "20000 m^3/day"\navailabilty = 0.9'),
                              "site.availabilty: unknown key (did you mean 'availability'?)"),

@@ -71,8 +71,13 @@ def print_claims(console, body: dict) -> None:
                 console.print(table)
         style = {"below_floor": "bold red", "below_model": "bold yellow", "within_model": "bold green",
                  "above_model": "bold magenta"}[j["verdict"]]
-        console.print(Text(j["verdict"], style=style))
-        for line in notes(j):
+        lines = list(notes(j))
+        lead = f"Verdict: {j['verdict']}"
+        if lines and lines[0].startswith(lead):        # the verdict once, in colour, at the head of its sentence
+            console.print(Text("Verdict: ") + Text(j["verdict"], style=style) + Text(printable(lines.pop(0)[len(lead):])))
+        else:
+            console.print(Text(j["verdict"], style=style))
+        for line in lines:
             console.print(escape(printable(line)), highlight=False)
         console.print()
     console.print(Text(CAUTION, style="dim"))

@@ -405,8 +405,16 @@ def _glance(payload: dict, judgements=()) -> list[str]:
     return out
 
 
+def _readable(text: str) -> str:
+    """A value as written, for a sentence: a long plain number gets thousands separators, m^3 reads m3
+    ("100000 m^3/day" -> "100,000 m3/day")."""
+    import re
+    text = text.replace("m^3", "m3")
+    return re.sub(r"^(\d{5,})(?=\s|$)", lambda m: f"{int(m.group(1)):,}", text)
+
+
 def _question(payload: dict, inputs: dict, techs: list[str]) -> str:
-    v = lambda k: _show(inputs.get(k, {}).get("value"))  # noqa: E731
+    v = lambda k: _readable(_show(inputs.get(k, {}).get("value")))  # noqa: E731
     temps = inputs.get("feed.temperature", {}).get("value")
     if isinstance(temps, list) and len(temps) > 1:
         mean = _num(payload["floor"].get("feed_temperature_c"))

@@ -60,10 +60,14 @@ def fmt_number(v, digits: int = 4) -> str:
 def rich_table(title: str, columns: list[str], rows: list[list], caption: str | None = None) -> Table:
     table = Table(title=escape(printable(title)), caption=caption and escape(printable(caption)),
                   title_justify="left", caption_justify="left")
+    cells = [[Text(printable(fmt_number(x))) if not isinstance(x, Text) else x for x in r] for r in rows]
+    # the first column holds keys and names a reader copies (into --set, say): on a narrow terminal it folds onto a
+    # second line rather than ending in an ellipsis
     for i, c in enumerate(columns):
-        table.add_column(escape(printable(c)), justify="left" if i == 0 else "right")
-    for r in rows:
-        table.add_row(*[Text(printable(fmt_number(x))) if not isinstance(x, Text) else x for x in r])
+        table.add_column(escape(printable(c)), justify="left" if i == 0 else "right",
+                         overflow="fold" if i == 0 else "ellipsis")
+    for r in cells:
+        table.add_row(*r)
     return table
 
 
@@ -95,6 +99,14 @@ def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]
 
 
 # ------------------------------------------------------------------------------------------------ side by side
+def share_pct(x: float) -> str:
+    """A share as a percentage that reads 100 % or 0 % only when it is exactly that (99.8 %, not 100 %)."""
+    x = float(x)
+    if 0.0 < x < 0.005 or 0.995 <= x < 1.0:
+        return f"{min(max(100 * x, 0.1), 99.9):.1f}%"
+    return f"{x:.0%}"
+
+
 def _pct(v):
     return None if v is None else f"{100 * v:.1f} %"
 
@@ -155,12 +167,12 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
 
 def build_up_rows(recs: list[dict], key: str, items: dict) -> list[list]:
     """Rows of a cost build-up (``details[key]``: item -> value) with technologies as columns, grouped by cause: a
-    row naming the cause, then its items; items no technology has are left out."""
+    row naming the cause, then its items; items no technology has a figure for are left out."""
     rows: list[list] = []
     causes = dict.fromkeys(item.cause for item in items.values())
     for cause in causes:
         names = [n for n, item in items.items() if item.cause == cause
-                 and any(n in (r["details"].get(key) or {}) for r in recs)]
+                 and any((r["details"].get(key) or {}).get(n) is not None for r in recs)]
         if not names:
             continue
         rows.append([f"{cause}:"] + [""] * len(recs))
@@ -235,18 +247,25 @@ SWEEP_METRICS = {"work_equivalent_kwh_per_m3": "work equivalent", "electricity_k
                  "second_law_efficiency": "second-law efficiency"}
 
 
+def _figure(row: dict, v) -> str:
+    """A summary figure as the compare table shows it: a dimensionless efficiency as a percentage."""
+    if row.get("unit") in ("-", "") and row.get("metric") == "second_law_efficiency" and v is not None:
+        return f"{100 * v:.1f} %"
+    return fmt_number(v)
+
+
 def _band(row: dict) -> str:
     if not row["n"]:
         return "-"
-    return f"{fmt_number(row['p50'])} ({fmt_number(row['p10'])}-{fmt_number(row['p90'])})"
+    return f"{_figure(row, row['p50'])} ({_figure(row, row['p10'])}-{_figure(row, row['p90'])})"
 
 
 def _range(row: dict) -> str:
     if not row["n"]:
         return "-"
     if row["min"] == row["max"]:
-        return fmt_number(row["min"])
-    return f"{fmt_number(row['min'])} to {fmt_number(row['max'])}"
+        return _figure(row, row["min"])
+    return f"{_figure(row, row['min'])} to {_figure(row, row['max'])}"
 
 
 #: grid points shown in the terminal table; a wider grid is in grid.csv of the run folder
@@ -268,6 +287,7 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
     rows = [["feasible share"] + [f"{by[(t, 'electricity_kwh_per_m3')]['feasible_share']:.0%}" for t in techs]]
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
+        unit = "%" if m == "second_law_efficiency" and unit in ("-", "") else unit
         rows.append([f"{label} [{unit}]"] + [cell(by[(t, m)]) for t in techs])
     if not grid and techs:
         def p50_ci(row):
@@ -292,7 +312,7 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
     else:
         def share(r, t):
             ci = r.get("first_share_ci", {}).get(t)
-            return f"{r['first_share'].get(t, 0):.0%}" + (f" ({ci[0]:.0%}-{ci[1]:.0%})" if ci else "")
+            return share_pct(r["first_share"].get(t, 0)) + (f" ({share_pct(ci[0])}-{share_pct(ci[1])})" if ci else "")
         out.append(("share of samples ranked first (95 % interval)", ["criterion"] + share_cols,
                     [[r["criterion"]] + [share(r, t) for t in share_cols] for r in body["ranking"]]))
         out.append(("how sure the ranking is", ["criterion", "statement"],

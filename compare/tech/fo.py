@@ -650,7 +650,7 @@ DETAILS = {
     "reverse_salt_flux": Detail("reverse salt flux", "g/m2/h"),
     "min_osmotic_margin": Detail("smallest osmotic-pressure margin along the exchanger", "bar"),
     "brine_wall_salinity": Detail("brine at the membrane, polarised at the mean flux", "g/kg"),
-    "draw_makeup": Detail("draw salt make-up (0 where the draw gains salt from the feed)", "kg/m3"),
+    "draw_makeup": Detail("draw salt make-up (draw salt lost to the brine and the product, net of the feed salt it gains; 0 when it gains more)", "kg/m3"),
     "regenerator_recovery": Detail("regenerator recovery", "-"),
     "regenerator_feed_pressure": Detail("regenerator feed pressure", "bar"),
     "regenerator_ro_step": Detail("regenerator RO step electricity", "kWh/m3"),
