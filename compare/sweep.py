@@ -25,7 +25,7 @@ import numpy as np
 from .errors import InputError
 from .schema import Spec, check_bounds, parse_value
 from .scenario import Scenario, nearest, sections
-from .present.fields import RECORD_FIELDS, convert  # pure data, the one field table
+from .present.fields import RECORD_FIELDS, convert, share_pct  # pure data, the one field table
 
 #: headline metrics kept per case and technology: name -> the Accounts attribute (record field and unit from the
 #: field table)
@@ -591,7 +591,7 @@ def separation(shares: dict, intervals: dict, n: int, criterion: str) -> dict:
     the number of samples that would separate shares this far apart (non-overlapping Wilson intervals, normal
     approximation)."""
     ranked = sorted((t for t in shares if t != "none feasible"), key=lambda t: -shares[t])
-    pct = lambda t: f"{shares[t]:.0%} ({intervals[t][0]:.0%} to {intervals[t][1]:.0%})"  # noqa: E731
+    pct = lambda t: f"{share_pct(shares[t])} ({share_pct(intervals[t][0])} to {share_pct(intervals[t][1])})"  # noqa: E731
     if not ranked or shares[ranked[0]] == 0:
         return {"separated": False, "statement": f"no technology is feasible in any sample on {criterion}"}
     a = ranked[0]

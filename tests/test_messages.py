@@ -6,7 +6,7 @@ from pathlib import Path
 import pytest
 
 from compare.cli import main
-from compare.present.tables import share_pct
+from compare.present.fields import share_pct
 
 ROOT = Path(__file__).resolve().parents[1]
 GULL = str(ROOT / "scenarios" / "gull-harbour.toml")

@@ -175,3 +175,13 @@ def value(x, unit: str):
     if not np.isfinite(v):
         return None
     return int(round(v)) if UNITS[unit].integer else v
+
+
+def share_pct(x: float) -> str:
+    """A share as a percentage that reads 100 % or 0 % only when it is exactly that (99.8 %, not 100 %)."""
+    x = float(x)
+    if abs(x - round(x)) < 1e-9:                  # 0 and 1 as such, whatever rounding the interval took
+        x = float(round(x))
+    if 0.0 < x < 0.005 or 0.995 <= x < 1.0:
+        return f"{min(max(100 * x, 0.1), 99.9):.1f}%"
+    return f"{x:.0%}"

@@ -10,6 +10,7 @@ from rich.text import Text
 
 from ..errors import printable
 from . import CAUTION
+from .fields import share_pct
 
 #: characters with a meaning in Markdown (or HTML inside it), escaped with a backslash in text from input
 _MARKDOWN = str.maketrans({c: "\\" + c for c in "\\`*_{}<>#!|~&$"})
@@ -99,14 +100,6 @@ def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]
 
 
 # ------------------------------------------------------------------------------------------------ side by side
-def share_pct(x: float) -> str:
-    """A share as a percentage that reads 100 % or 0 % only when it is exactly that (99.8 %, not 100 %)."""
-    x = float(x)
-    if 0.0 < x < 0.005 or 0.995 <= x < 1.0:
-        return f"{min(max(100 * x, 0.1), 99.9):.1f}%"
-    return f"{x:.0%}"
-
-
 def _pct(v):
     return None if v is None else f"{100 * v:.1f} %"
 
@@ -284,7 +277,7 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
     by = {(r["technology"], r["metric"]): r for r in body["summary"]}
     grid = body["mode"] == "grid"
     cell = _range if grid else _band
-    rows = [["feasible share"] + [f"{by[(t, 'electricity_kwh_per_m3')]['feasible_share']:.0%}" for t in techs]]
+    rows = [["feasible share"] + [share_pct(by[(t, 'electricity_kwh_per_m3')]['feasible_share']) for t in techs]]
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
         unit = "%" if m == "second_law_efficiency" and unit in ("-", "") else unit
@@ -307,7 +300,7 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
     share_cols = techs + ["none feasible"]
     if grid:
         out.append(("share of grid points ranked first", ["criterion"] + share_cols,
-                    [[r["criterion"]] + [f"{r['first_share'].get(t, 0):.0%}" for t in share_cols]
+                    [[r["criterion"]] + [share_pct(r['first_share'].get(t, 0)) for t in share_cols]
                      for r in body["ranking"]]))
     else:
         def share(r, t):
