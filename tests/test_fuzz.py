@@ -1,5 +1,6 @@
 """Generated broken scenario files and options: whatever is broken, and however many keys at once, the tool answers
-with exit status 2, one printable line per problem naming the file and the key, no traceback, and writes nothing.
+with exit status 2, one printable line per problem naming the file and the key, no traceback, and writes nothing,
+in every command that reads a scenario (check, compare, sweep, report, claim).
 
 Each generated file starts from a valid scenario and breaks k distinct keys in ways that are wrong by construction
 (an unknown key, a non-finite number, a unit of a dimension no key has, a value beyond a key's bounds, a control
@@ -160,7 +161,10 @@ def test_broken_files_are_one_line_per_problem_and_write_nothing(tmp_path, capsy
     for p in work.iterdir():
         p.unlink()
     Path("s.toml").write_text(text, encoding="utf-8")
-    for argv in (["check", "s.toml"], ["compare", "s.toml", "--out", "runs"]):
+    for argv in (["check", "s.toml"], ["compare", "s.toml", "--out", "runs"],
+                 ["sweep", "s.toml", "--vary", "ro.flux=10 L/m^2/h,12 L/m^2/h", "--out", "runs", "--quiet"],
+                 ["report", "s.toml", "--out", "runs"],
+                 ["claim", "s.toml", "--technology", "ro", "--electricity", "3 kWh/m^3"]):
         code = main(argv)
         out, err = capsys.readouterr()
         assert code == 2, (argv, text, err)
