@@ -49,7 +49,7 @@ def fmt_number(v, digits: int = 4) -> str:
         if v == 0:
             return "0"
         a = abs(v)
-        if a >= 10 ** (digits - 1):
+        if a >= 10 ** (digits - 1) or (v == int(v) and a < 1e15):    # whole numbers (counts) as integers
             return f"{v:,.0f}"
         if a < 1e-4:
             return f"{v:.{digits - 1}e}"
