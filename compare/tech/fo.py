@@ -136,7 +136,7 @@ class FOParameters:
     other_electricity: Any = param("quantity", "0.8 kWh/m^3", "common practice (the RO default): intake, pretreatment and post-treatment "
                               "on the same assumptions", "J/m^3", 'an energy per volume such as "0.8 kWh/m^3"',
                               lo=0.0)
-    segments: Any = param("count", "40", "numerics: permeate steps along the exchanger", expect="a number 4-400",
+    segments: Any = param("count", "20", "numerics: permeate steps along the exchanger", expect="a number 4-400",
                      lo=4, hi=400)
     capital_cost: Any = param("money", OPTIONAL, "tool default: built up from the design's equipment (compare/costing.py); a "
                               "value replaces the build-up", "day/m^3",
