@@ -140,6 +140,17 @@ def broken_file(draw):
     return to_toml(data), broken
 
 
+def _alone(tmp_path, monkeypatch, text: str) -> Path:
+    """An emptied working folder (hypothesis reuses the test's tmp_path) holding only s.toml with ``text``."""
+    work = tmp_path / "w"
+    work.mkdir(exist_ok=True)
+    monkeypatch.chdir(work)
+    for p in work.iterdir():
+        p.unlink()
+    Path("s.toml").write_text(text, encoding="utf-8")
+    return work
+
+
 def _clean_lines(err: str, label: str) -> list:
     lines = err.splitlines()
     assert lines, "no error line"
@@ -150,17 +161,16 @@ def _clean_lines(err: str, label: str) -> list:
     return lines
 
 
-@settings(max_examples=int(os.environ.get("DESAL_FUZZ_EXAMPLES", 60)), deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture,
-                                                                  HealthCheck.too_slow])
+#: examples per run (more by hand: DESAL_FUZZ_EXAMPLES=600)
+EXAMPLES = int(os.environ.get("DESAL_FUZZ_EXAMPLES", 60))
+
+
+@settings(max_examples=EXAMPLES, deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(case=broken_file())
 def test_broken_files_are_one_line_per_problem_and_write_nothing(tmp_path, capsys, monkeypatch, case):
     text, broken = case
-    work = tmp_path / "w"
-    work.mkdir(exist_ok=True)
-    monkeypatch.chdir(work)
-    for p in work.iterdir():
-        p.unlink()
-    Path("s.toml").write_text(text, encoding="utf-8")
+    work = _alone(tmp_path, monkeypatch, text)
     for argv in (["check", "s.toml"], ["compare", "s.toml", "--out", "runs"],
                  ["sweep", "s.toml", "--vary", "ro.flux=10 L/m^2/h,12 L/m^2/h", "--out", "runs", "--quiet"],
                  ["report", "s.toml", "--out", "runs"],
@@ -201,16 +211,12 @@ BAD_OPTIONS = {
 }
 
 
-@settings(max_examples=int(os.environ.get("DESAL_FUZZ_EXAMPLES", 40)), deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@settings(max_examples=max(EXAMPLES * 2 // 3, 1), deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
 @given(option=st.sampled_from(sorted(BAD_OPTIONS)), data=st.data())
 def test_broken_options_are_one_line_and_write_nothing(tmp_path, capsys, monkeypatch, option, data):
     value = data.draw(BAD_OPTIONS[option])
-    work = tmp_path / "o"
-    work.mkdir(exist_ok=True)
-    monkeypatch.chdir(work)
-    for p in work.iterdir():
-        p.unlink()
-    Path("s.toml").write_text(VALID, encoding="utf-8")
+    work = _alone(tmp_path, monkeypatch, VALID)
     argv = ["sweep", "s.toml", "--out", "runs", "--quiet", option, value]
     if option in ("--seed", "--workers", "--chunk"):
         argv += ["--samples", "8"]
