@@ -232,14 +232,16 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     r, Sp, Sb = grid(perf.recovery), grid(perf.product_salinity), grid(perf.brine_salinity)
     T, S_f = grid(feed.temperature), grid(feed.salinity)
     uses_heat = q > 0
-    phi = work_equivalent_factor(np.where(uses_heat, Th, 1000.0), site)
+    Th_used = np.where(uses_heat, Th, 1000.0)
+    phi = work_equivalent_factor(Th_used, site)
     work_heat = np.where(uses_heat, q * phi, 0.0)
     T0 = grid(site.dead_state)
     lw = least_work(model, S_f, T, np.clip(r, 0.0, 0.999), np.minimum(Sp, S_f * 0.999), model.water,
                     dead_state=T0 if np.any(T0 != T) else None)
     # second-law efficiency always against exergy at the dead state (the least work's own reference), whatever
     # rule values the heat for the work equivalent: the turbine's lost work can be less than the heat's exergy
-    exergy_heat = np.where(uses_heat, q * exergy_factor(np.where(uses_heat, Th, 1000.0), T0), 0.0)
+    exergy_heat = work_heat if site.heat_to_work == "exergy" else \
+        np.where(uses_heat, q * exergy_factor(Th_used, T0), 0.0)
     flags = list(perf.flags)
     worthless = uses_heat & (phi <= 0.0)
     if worthless.any():
