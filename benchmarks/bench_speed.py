@@ -109,7 +109,9 @@ def main(quick: bool = False, with_million: bool = True) -> None:
 
     print(f"at start: {_load()}; CPU times, best of several runs, so other jobs change them little")
     _per_sample(5_000)                       # imports, tables, numba (compiled or loaded from its cache)
-    print(f"compiled table lookup: {'numba' if floor._KERNEL and floor._KERNEL[0] is not None else 'none (numpy)'}")
+    from compare.tech import ro
+    print(f"compiled table lookup: {'numba' if floor._KERNEL and floor._KERNEL[0] is not None else 'none (numpy)'}; "
+          f"RO's march: {'compiled (numba)' if ro._KERNEL and ro._KERNEL[0] is not None else 'numpy'}")
     per = _per_sample(20_000, repeats=3)
     print(f"full RO + MED + FO sample at one temperature: {per * 1e3:6.3f} ms CPU "
           f"(target 0.25 ms, ratio {per * 1e3 / 0.25:5.2f}; 1.3 ms at the issue, 0.52 ms before the solver work)")

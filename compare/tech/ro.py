@@ -65,7 +65,7 @@ from typing import Any
 
 from ..spec import OPTIONAL, efficiency, param
 from ..thermo import brine as _brine
-from ..thermo.floor import osmotic_table
+from ..thermo.floor import OsmoticTable, osmotic_table
 from ..flags import Flag
 from .base import Detail, Feed, Performance, Technology, case_shape, register, take
 
@@ -366,6 +366,12 @@ def _march(P_feed, c, shares, n_seg, full=False, slope=True):
     # permeate steps graded towards the outlet, where the flux may collapse (the restriction): the march's share of
     # the recovery after step j is 1 - (1 - j/steps)^GRADING
     edges = 1.0 - (1.0 - np.arange(steps + 1) / steps) ** GRADING
+    kernel = _march_kernel(pi)
+    if kernel is not None:
+        x, xs, ms, cs, salt, Q, J0, Sp0, y = kernel.run(P_feed, c, shares, n_seg, edges, full, slope, _CONSTS)
+        if not full:
+            return x
+        return _profile(x, xs, ms, cs, salt, Q, J0, Sp0, y, c, share, cum, pressure)
     Q = np.ones_like(P_feed)
     salt = c["S_in"].copy()
     x = np.zeros_like(P_feed)
@@ -419,8 +425,35 @@ def _march(P_feed, c, shares, n_seg, full=False, slope=True):
                 cs.append(c["S_in"] - salt)
     if not full:
         return x
+    return _profile(x, np.array(xs), np.array(ms), np.array(cs), salt, Q, J0, Sp0, y, c, share, cum, pressure)
+
+
+#: the march's constants as the compiled march takes them (see :mod:`compare.tech.ro_kernel`)
+_CONSTS = np.array([S_CAP, FLUX_RTOL, CORRECTOR_TOL, CORRECTOR_PASSES], dtype=float)
+_KERNEL: list = []
+
+
+def _march_kernel(pi):
+    """:mod:`compare.tech.ro_kernel` (the march compiled by numba) when numba can be imported and ``pi`` is an
+    osmotic table, else None (the numpy march serves). Loaded at the first march, so that commands without RO
+    never import numba."""
+    if not isinstance(pi, OsmoticTable):
+        return None
+    if not _KERNEL:
+        try:
+            from . import ro_kernel
+            _KERNEL.append(ro_kernel)
+        except Exception:                      # noqa: BLE001 - numba absent or unusable: the numpy march serves
+            _KERNEL.append(None)
+    return _KERNEL[0]
+
+
+def _profile(x, xs, ms, cs, salt, Q, J0, Sp0, y, c, share, cum, pressure):
+    """The rest of a full march's profile (see :func:`_march`) from its steps: ``xs``, ``ms``, ``cs`` (steps + 1 x
+    cases) the area fraction, permeate and permeate salt after each step; ``salt``, ``Q``, ``J0``, ``Sp0``, ``y``
+    the end state."""
+    n_st = share.size
     P_b, _ = pressure(np.minimum(x, cum[-1]))
-    xs, ms, cs = np.array(xs), np.array(ms), np.array(cs)
     perm_salt = cs[-1]
     # permeate and its salt up to each stage boundary and the end of the lead element (the first 1/n_elem of stage
     # 1's area), by linear interpolation along the march

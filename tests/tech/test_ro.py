@@ -328,3 +328,47 @@ def test_lead_element_limit_gives_one_area_over_the_periods():
     assert d["average_flux"][0, 0] < 14 * LMH
     assert d["lead_flux"][0, 2] == pytest.approx(25 * LMH, rel=2e-4)
     assert np.all(d["lead_flux"][0, :2] < 25 * LMH)
+
+
+def _numpy_march(run):
+    """``run()`` with the numpy march (the compiled march set aside), then the compiled one restored."""
+    saved = list(ro._KERNEL)
+    ro._KERNEL[:] = [None]
+    try:
+        return run()
+    finally:
+        ro._KERNEL[:] = saved
+
+
+def test_compiled_march_agrees_with_the_numpy_march():
+    # numerics: with numba installed the march runs compiled, case by case; without it, the numpy march. Both must
+    # give every design figure within 1e-8 (the solvers stop at 1e-10 of the flux and of 1/x - 1; the last bits
+    # differ since numpy's exp and log may round unlike the C library's) and the same feasibility and flags, over
+    # random seawater and brackish designs (many at the restriction, the lead element's limit binding in some) and
+    # seawater beyond the pressure limit and beyond the model's reach
+    pytest.importorskip("numba", reason="numba not installed: only the numpy march can run")
+    f, over = _random_designs(300, 23)
+    over["max_lead_flux"] = np.where(over["stages"] == 1, 1000.0, 40.0) * LMH
+    sea = feed(np.array([0.035, 0.045, 0.07, 0.2, 0.3]), T=np.array([288.0, 300.0, 298.0, 298.0, 298.0]))
+    seen = set()
+    for fd, p in ((f, params(**over)), (sea, params(recovery=0.6))):
+        ro._KERNEL.clear()
+        compiled = ro.evaluate(fd, p)
+        assert ro._KERNEL[0] is not None                    # the premise: the compiled march ran
+        plain = _numpy_march(lambda: ro.evaluate(fd, p))
+        assert np.array_equal(compiled.feasible, plain.feasible)
+        assert sorted((g.kind, g.code) for g in compiled.flags) == sorted((g.kind, g.code) for g in plain.flags)
+        for g in compiled.flags:
+            twin = next(h for h in plain.flags if (h.kind, h.code) == (g.kind, g.code))
+            shape = compiled.electricity.shape
+            assert np.array_equal(g.where(shape), twin.where(shape)), g.code
+        assert compiled.electricity == pytest.approx(plain.electricity, rel=1e-8, nan_ok=True)
+        for key, value in compiled.details.items():
+            a = np.asarray(value, dtype=float)
+            assert a == pytest.approx(np.asarray(plain.details[key], dtype=float), rel=1e-8, abs=1e-14,
+                                      nan_ok=True), key
+        seen |= {g.code for g in plain.flags} | {"feasible" if v else "infeasible" for v in plain.feasible}
+        if (plain.details["area_used_fraction"] < 1 - 1e-6).sum() >= 10:
+            seen.add("at the restriction")
+    # the premise: feasible and infeasible designs, the lead element's limit binding, designs at the restriction
+    assert {"feasible", "infeasible", "flux_lowered", "at the restriction"} <= seen, seen
