@@ -1,7 +1,8 @@
 """Reverse osmosis: spiral-wound pressure vessels in 1-3 stages, solution-diffusion transport with film-model
 concentration polarisation, marched along the flow path, in design mode (recovery and average flux given; feed
 pressure and membrane area solved; the average flux lowered where the lead element would pass its limit), vectorised
-over every case at once.
+over every case at once. The march along the vessels runs compiled by numba where it loads
+(:mod:`compare.tech.ro_kernel`, the same method case by case), else in numpy; the two agree within 1e-8.
 
 Model
 -----

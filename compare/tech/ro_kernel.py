@@ -9,8 +9,10 @@ vectorised ``exp`` and ``log`` may round differently from the C library's and be
 Newton loop when every case has settled. Constants come in as arguments (a compiled function's cache would keep a
 module constant changed later).
 
-The osmotic-pressure lookup here is :func:`compare.thermo.floor._lookup_slope` for one point (the same operations,
-so the same values); ``tp`` packs the table's scalars (1/du, 1/dt, T_min, u_max, t_max, cells along sqrt(S)).
+The osmotic-pressure lookup (:func:`_cell` and the lines after each call) repeats the operations of
+:func:`compare.thermo.floor._lookup_slope` for one point, on the table's cells reordered along sqrt(S) (the same
+numbers), so it gives the table's values; ``tp`` packs the table's scalars (1/du, 1/dt, T_min, u_max, t_max, cells
+along sqrt(S)).
 """
 
 from __future__ import annotations
