@@ -158,7 +158,7 @@ def test_osmotic_table_error_bound(model):
 def test_compiled_table_lookup_equals_the_numpy_one():
     # identity: with numba installed, large arrays take the compiled lookup; it must give the numpy path's values
     # exactly, edges included (NaN, negative, beyond the grid), so results never depend on numba being there
-    pytest.importorskip("numba", reason="optional extra 'fast' (numba) missing")
+    pytest.importorskip("numba", reason="numba (a dependency) is not installed here: only the numpy lookup can run")
     from compare.thermo import floor
     from compare.thermo.activity import get_model
     tab = floor.osmotic_table(get_model("teos10", "seawater"))
