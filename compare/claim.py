@@ -186,7 +186,7 @@ def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
     grids = [values for values, _ in search.values()]
     combos = np.array(np.meshgrid(*[np.arange(len(g)) for g in grids], indexing="ij")).reshape(len(keys), -1)
     ctx = {"currency": scenario.currency, "water": scenario.values["feed"]["water"],
-           "temperature": float(np.mean(scenario.values["feed"]["temperature"]))}
+           "temperature": _weighted_temperature(scenario)}
     varied = {f"{tech}.{k}": np.array([float(parse_value(specs[k], grids[j][i], k, **ctx)) for i in combos[j]])
               for j, k in enumerate(keys)}
     result = evaluate(scenario, varied)
@@ -197,6 +197,13 @@ def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
     best = min(feasible, key=lambda i: work[i]) if feasible else 0
     chosen = {k: grids[j][combos[j][best]] for j, k in enumerate(keys)}
     return _design_figures(records[best]), chosen
+
+
+def _weighted_temperature(scenario: Scenario) -> float:
+    """The feed temperature [K], production-weighted over the periods (as ``compare`` shows it)."""
+    from .accounting import month_weights
+    T = np.atleast_1d(np.asarray(scenario.values["feed"]["temperature"], dtype=float))
+    return float(np.sum(month_weights(T.size) * T))
 
 
 def scenario_record(scenario: Scenario, tech: str) -> dict:
@@ -235,7 +242,7 @@ def _least_work(scenario: Scenario, r: float) -> tuple[float, float, list[str]]:
     fl = evaluate_floor(model, feed["salinity"], T, r, S_p)
     w = month_weights(T.size)
     warnings = [f.message for f in fl.flags if f.kind == "out_of_range" and f.quantity.startswith("brine")]
-    return float(np.sum(w * fl.least_work)) / J_PER_KWH, float(np.sum(w * T)), warnings
+    return float(np.sum(w * fl.least_work)) / J_PER_KWH, _weighted_temperature(scenario), warnings
 
 
 def claim_work_equivalent(electricity, heat, heat_temperature, T0) -> tuple[float, float]:
@@ -343,7 +350,7 @@ def judge(source, claim: dict, overrides=()) -> dict:
         },
         "site": {
             "scenario": base.name, "feed_salinity_g_per_kg": float(base.values["feed"]["salinity"]) * 1e3,
-            "feed_temperature_c": float(np.mean(T_feed)) - 273.15,
+            "feed_temperature_c": _weighted_temperature(base) - 273.15,     # production-weighted, as in compare
             "product_salinity_g_per_kg": float(base.values["product"]["salinity"]) * 1e3,
             "dead_state_c": T0 - 273.15,
             "dead_state": "the feed temperature (the least work's own), whatever the scenario's heat_to_work",

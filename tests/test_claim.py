@@ -194,3 +194,23 @@ def test_a_brine_beyond_the_model_is_flagged_and_no_design_is_below_model(site):
     assert any("outside the validated range" in w for w in j["warnings"])
     assert j["verdict"] == "below_model" and "no feasible RO design" in j["explanation"]
     assert j["within_model_kwh_per_m3"] == [None, None]
+
+
+def test_monthly_feed_temperature_is_the_production_weighted_mean_compare_shows(tmp_path):
+    # consistency check (not an outside source): with twelve monthly temperatures the claim's site states the same
+    # production-weighted feed temperature as compare's floor and as its own dead state, not the plain mean of months
+    from compare.pipeline import evaluate
+    from compare.present.records import payload
+    from compare.scenario import load
+
+    months = ["24 degC", "24 degC", "25 degC", "27 degC", "29 degC", "31 degC", "32 degC", "33 degC", "32 degC",
+              "30 degC", "28 degC", "25 degC"]
+    path = tmp_path / "monthly.toml"
+    path.write_text(SITE.replace('temperature = "25 degC"', "temperature = [" + ", ".join(
+        f'"{m}"' for m in months) + "]") + "[med]\nenabled = false\n[fo]\nenabled = false\n")
+    j = judge(str(path), claim("ro", 3.5))
+    shown = payload(evaluate(load(str(path))))["floor"]["feed_temperature_c"]
+    plain = sum(float(m.split()[0]) for m in months) / 12
+    assert abs(shown - plain) > 0.01                           # premise: the two means differ here
+    assert j["site"]["feed_temperature_c"] == pytest.approx(shown, abs=1e-9)
+    assert j["site"]["dead_state_c"] == pytest.approx(shown, abs=1e-9)
