@@ -200,13 +200,15 @@ def work_equivalent_factor(T_heat, site: Site):
 
 def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site: Site, capital_cost,
             fixed_om, costs: costing.Costs | None = None, roles: dict | None = None,
-            scaling=None, flows: Flows | None = None) -> Accounts:
+            scaling=None, flows: Flows | None = None, described: dict | None = None) -> Accounts:
     """The accounts of one technology's :class:`Performance` on N cases by M periods.
 
     Adds the checks every technology gets: heat colder than the technology needs makes it infeasible (code
     ``heat_temperature``); a product above the target is ``off_target``; a brine outside the activity model's
     validated range is ``out_of_range`` (unless the technology flagged its brine itself). Per-m^3 figures are
-    production-weighted over the periods; a case is feasible when every period is.
+    production-weighted over the periods; a case is feasible when every period is. A technology's details span the
+    periods as its detail table says (``described``: name -> :class:`~compare.tech.base.Detail`; sizes the largest
+    period, operating figures the weighted mean, the default for a detail not described).
 
     Parameters
     ----------
@@ -218,6 +220,7 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
         per product are among its details
     scaling : the grid (N, M) :class:`compare.concentrate.Scaling` of an ion composition, reduced here to cases
     flows : the plant's :class:`Flows` (:func:`plant_flows`, the same the cost build-up priced); computed when None
+    described : the technology's detail table (``Technology.details``)
     """
     n, M = site.capacity.size, site.weights.size
     shape = (n, M)
@@ -297,7 +300,9 @@ def account(name: str, perf: Performance, model: ActivityModel, feed: Feed, site
     design = {k: np.where(feasible, v, np.nan) for k, v in design.items()}
     items = {"capital_items": {k: np.where(feasible, v, np.nan) for k, v in costs.capital.items()},
              "om_items": {k: np.where(feasible, v, np.nan) for k, v in costs.annual.items()}}
-    details = {k: per_case(np.asarray(v, dtype=float)) for k, v in perf.details.items()}
+    described = described or {}
+    details = {k: (described[k].over(grid(v), site.weights) if k in described else per_case(v))
+               for k, v in perf.details.items()}
     if flows is None:
         flows = plant_flows(perf, feed, site, roles or {}, shape, model.water)
     if scaling is not None:

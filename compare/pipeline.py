@@ -50,6 +50,7 @@ class RunResult:
     floor: FloorResult
     technologies: tuple
     varied: dict            # dotted key -> (N,) array of SI values
+    periods: int = 1        # periods per case (12 with monthly feed temperatures); details span them by their rule
 
     @property
     def model(self) -> str:
@@ -148,8 +149,8 @@ def evaluate(scenario: Scenario, varied: dict | None = None) -> RunResult:
         flows = acc.plant_flows(perf, feed, site, tech.concentrate, (n, M), model.water)
         costs = costing.build(name, perf, params, site_costs, capacity, weights, site.annual_production, flows)
         results.append(acc.account(name, perf, model, feed, site, None, None, costs=costs, roles=tech.concentrate,
-                                   scaling=sc, flows=flows))
-    return RunResult(scenario, n, floor, tuple(results), varied)
+                                   scaling=sc, flows=flows, described=tech.details))
+    return RunResult(scenario, n, floor, tuple(results), varied, M)
 
 
 def _chemistry(scenario: Scenario, get) -> Chemistry | None:

@@ -169,6 +169,28 @@ def unit_label(text: str, unit: str, currency: str = "", fmt: str = "") -> str:
     return f"{text} [{unit.replace('{currency}', currency)}]"
 
 
+#: words a design figure's label gains in a run with several periods (months) when it is not their weighted mean
+#: (:attr:`compare.tech.base.Detail.over_periods`)
+PERIOD_WORDS = {"max": "largest month", "min": "smallest month"}
+
+
+def detail_label(d, periods: int = 1) -> str:
+    """A technology's design figure (:class:`~compare.tech.base.Detail`) in words with its unit. In a run over
+    several periods a figure taken at its largest or smallest month says so, ``membrane area (largest month) [m2]``;
+    the others are production-weighted means (:func:`design_note`)."""
+    text = d.label
+    if periods > 1 and d.over_periods in PERIOD_WORDS:
+        text = f"{text} ({PERIOD_WORDS[d.over_periods]})"
+    return unit_label(text, d.unit)
+
+
+def design_note(periods: int = 1) -> str:
+    """What the design figures of a run over several periods are, for their heading ("" for one period)."""
+    if periods <= 1:
+        return ""
+    return f"production-weighted means over the {periods} months unless marked largest or smallest month"
+
+
 def value(x, unit: str):
     """One SI value as a plain Python number in ``unit`` (None for NaN or inf; an int for counts)."""
     v = float(convert(x, unit))

@@ -96,14 +96,15 @@ def floor_of(result, i: int = 0) -> dict:
 
 
 def payload(result, i: int = 0) -> dict:
-    """``desal compare --format json`` for case ``i``: scenario, floor, results, warnings, flags, notice."""
+    """``desal compare --format json`` for case ``i``: scenario, floor, results, warnings, periods (12 with monthly
+    feed temperatures: figures are production-weighted over them, design sizes taken at the largest month), notice."""
     recs = records(result, i)
     fl = floor_of(result, i)
     warnings = list(fl["warnings"])
     for r in recs:
         warnings += [w for w in r["warnings"] if w not in warnings]
     return {"scenario": result.scenario.name, "floor": fl, "results": recs, "warnings": warnings,
-            "notice": CAUTION}
+            "periods": int(getattr(result, "periods", 1)), "notice": CAUTION}
 
 
 def floor_record(model, S_f, T, r, S_p=0.0) -> dict:

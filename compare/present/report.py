@@ -17,7 +17,7 @@ from pathlib import Path
 
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
-from .fields import COST_LINES
+from .fields import COST_LINES, design_note
 from .tables import build_up_rows, fmt_number
 
 TEMPLATES = Path(__file__).parent / "templates"
@@ -352,10 +352,11 @@ def cost_figure(payload: dict) -> str:
                         label="Levelized cost of water and its parts", cls="cost")
 
 
-def design_items(rec: dict) -> list[tuple[str, str]]:
+def design_items(rec: dict, periods: int = 1) -> list[tuple[str, str]]:
     """A record's design figures as (label [unit], value): those its technology describes (the presenters' field
-    table), in its order, then any other figure under its record name; figures left out (null) are skipped."""
-    from .fields import SITE_DETAILS, record_name, unit_label
+    table), in its order, then any other figure under its record name; figures left out (null) are skipped. Over
+    several periods, a figure taken at its largest or smallest month says so in its label."""
+    from .fields import SITE_DETAILS, detail_label, record_name, unit_label
     from .records import detail_table
 
     details = {k: v for k, v in (rec.get("details") or {}).items() if not isinstance(v, dict)}
@@ -371,7 +372,7 @@ def design_items(rec: dict) -> list[tuple[str, str]]:
         name = record_name(key, d.unit)
         shown.add(name)
         if _num(details.get(name)) is not None:
-            items.append((unit_label(d.label, d.unit), fmt(details[name])))
+            items.append((detail_label(d, periods), fmt(details[name])))
     for k, v in details.items():
         if k not in shown and v is not None:
             items.append((k, fmt(v) if _num(v) is not None else _show(v)))
@@ -453,7 +454,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         group = grp
     table.insert(0, {"group": "", "label": "feasible", "unit": "",
                      "values": ["yes" if r["feasible"] else "NO" for r in recs]})
-    designs = [{"name": r["technology"].upper(), "items": design_items(r)} for r in recs]
+    designs = [{"name": r["technology"].upper(), "items": design_items(r, payload.get("periods", 1))} for r in recs]
     flag_groups = []
     ff = floor_flags(payload)
     if ff:
@@ -514,6 +515,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         "columns": columns,
         "table": table,
         "designs": designs,
+        "design_note": design_note(payload.get("periods", 1)),
         "energy_svg": energy_figure(payload) if recs else "",
         "cost_svg": cost_figure(payload) if recs else "",
         "cost_tables": cost_build_up(recs),

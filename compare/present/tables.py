@@ -112,7 +112,7 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
     """(heading, columns, rows) per group of the side-by-side comparison (technologies as columns), then one section
     of design figures per technology, in words with units. Infeasible technologies show a dash for every figure
     that needs a working design, and their reasons."""
-    from ..present.fields import COST_LINES, COST_TOTALS, FLOOR_FIELDS, RECORD_FIELDS, label, unit_label
+    from ..present.fields import COST_LINES, COST_TOTALS, FLOOR_FIELDS, RECORD_FIELDS, design_note, detail_label, label
     from ..present.records import detail_table
     from .fields import record_name
 
@@ -146,15 +146,18 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
         sections.append((g, [g] + techs, rows))
     if reasons:
         sections.append(("why infeasible", ["technology", "reason"], reasons))
+    periods = payload.get("periods", 1)
+    note = design_note(periods)
     for r in recs:
         desc = detail_table(r["technology"])
         rows = []
         for key, d in desc.items():
             name = record_name(key, d.unit)
             if name in r["details"] and r["details"][name] is not None:
-                rows.append([unit_label(d.label, d.unit), r["details"][name]])
+                rows.append([detail_label(d, periods), r["details"][name]])
         if rows:
-            sections.append((f"{r['technology']}: design figures", ["figure", "value"], rows))
+            sections.append((f"{r['technology']}: design figures" + (f" ({note})" if note else ""),
+                             ["figure", "value"], rows))
     return sections
 
 

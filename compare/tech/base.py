@@ -62,13 +62,46 @@ class Performance:
         return ~infeasible_mask(self.flags, np.shape(self.electricity))
 
 
+#: how a design figure spans the periods (months) of a run, for :attr:`Detail.over_periods`
+OVER_PERIODS = {
+    "mean": "production-weighted mean over the periods",
+    "max": "largest period",
+    "min": "smallest period",
+}
+
+
 @dataclass(frozen=True)
 class Detail:
-    """How a design figure of a technology is shown: a label in words and the display unit (one of
-    :data:`compare.present.fields.UNITS`); ``count`` for whole numbers."""
+    """How a design figure of a technology is shown: a label in words, the display unit (one of
+    :data:`compare.present.fields.UNITS`; ``count`` for whole numbers) and how it spans the periods of a run
+    (twelve months of feed temperature) when there are several:
+
+    - ``"mean"`` (the default): the production-weighted mean, for operating figures (pressures, salinities,
+      temperatures, energy per m^3, fluxes at the operating point), which add up over the year as the energy does;
+    - ``"max"``: the largest period, for what the plant is built for: areas, counts, installed sizes (the cost
+      build-up, :mod:`compare.costing`, prices such a figure on its largest period, so the figure shown is the one
+      priced) and a figure judged against an upper limit in every period (RO's lead element flux);
+    - ``"min"``: the smallest period, for a margin or share whose binding period is its lowest.
+    """
 
     label: str
     unit: str
+    over_periods: str = "mean"
+
+    def __post_init__(self):
+        if self.over_periods not in OVER_PERIODS:
+            raise ValueError(f"Detail {self.label!r}: over_periods must be one of {sorted(OVER_PERIODS)}, "
+                             f"got {self.over_periods!r}")
+
+    def over(self, grid, weights) -> np.ndarray:
+        """The figure per case (N,) from its values on the grid (N cases x M periods) and the periods' shares of
+        the year's production (M,). NaN in any period gives NaN."""
+        grid = np.asarray(grid, dtype=float)
+        if self.over_periods == "max":
+            return grid.max(axis=1)
+        if self.over_periods == "min":
+            return grid.min(axis=1)
+        return np.sum(grid * weights, axis=1)
 
 
 @dataclass(frozen=True)

@@ -472,7 +472,7 @@ DETAILS = {
     "last_effect_bpe": Detail("boiling-point elevation, last effect", "K"),
     "brine_salinity": Detail("brine salinity", "g/kg"),
     "evaporator_recovery": Detail("recovery of the evaporator feed", "-"),
-    "specific_area": Detail("heat-transfer area per kg/s of product", "m2/(kg/s)"),
+    "specific_area": Detail("heat-transfer area per kg/s of product", "m2/(kg/s)", "max"),
     "cooling_water_per_product": Detail("cooling water per kg of product", "kg/kg"),
     "cooling_water_outlet_temperature": Detail("cooling water outlet temperature", "degC"),
     "product_temperature": Detail("product temperature", "degC"),
