@@ -10,18 +10,22 @@ parameter S over the draw solute's diffusivity D, K = S/D), in the form of Tiraf
 al. (2010) for the same salt on both sides, written on total salinities (mass fractions) so that any activity model
 gives the osmotic pressures:
 
-    J_s   = B (c_D e^{-J K} - c_F e^{J/k}) / (1 + (B/J)(e^{J/k} - e^{-J K}))
+    J_s   = B (c_D e^{-J K} - c_P e^{J/k}) / (1 + (B/J)(e^{J/k} - e^{-J K}))
     c_D,i = c_D e^{-J K} - (J_s/J)(1 - e^{-J K})       draw side of the active layer (inside the support)
     c_F,m = c_F e^{J/k} + (J_s/J)(e^{J/k} - 1)          feed side of the active layer
     J     = A (Pi_D(c_D,i) - Pi_F(c_F,m))
 
 The transport lines are linear in the salinities; only the last is nonlinear, through the activity models (Pi_D:
 the draw's, NaCl by Pitzer; Pi_F: the feed's). With linear osmotic pressures it is Tiraferri's closed form exactly.
-Assumption: a seawater (or ion-mix) feed counts as NaCl of the same mass fraction for the membrane (one salt
-permeability B for both sides). Since NaCl has a higher osmotic pressure per kg than sea salt, the net salt flux
-can run from the feed into the draw where the two are near osmotic balance; the draw then carries that salt to the
-regenerator, which treats it as NaCl. J is solved by a safeguarded Newton iteration to a stated tolerance
-(:data:`FLUX_RTOL`).
+J_s is the reverse salt flux: the draw's salt (NaCl) passing to the feed, positive. Of the feed's salt c_F only
+c_P, its sodium and chloride (the draw's own salt, :func:`feed_passing_share`), passes back with the same
+permeability B; the feed's other ions (magnesium, calcium, sulphate ...) are taken as retained, as thin-film
+composite membranes retain divalent ions far better than NaCl (from memory), and they only polarise, as in c_F,m.
+So the draw stays NaCl, as its model and the regenerator assume. (Counting all of a seawater feed's salt as
+NaCl, as the first release did, made the net flux run from the feed into the draw near osmotic balance, since sea
+salt has less osmotic pressure per kg than NaCl: sea salt's sodium and chloride, 86 % of it, are less concentrated
+at the membrane than the draw's, and pass towards the feed.) J is solved by a safeguarded Newton iteration to a
+stated tolerance (:data:`FLUX_RTOL`).
 
 The exchanger is marched from the feed inlet (where the diluted draw leaves, at salinity u) in equal steps of
 permeate, the area of a step being its permeate over the log-mean flux (as in the RO model). The march needs no
@@ -164,19 +168,20 @@ FLUX_RTOL = 1e-12
 FLUX_MAX_ITER = 60
 
 
-def _interfaces(J, c_D, c_F, B, inv_k, K):
+def _interfaces(J, c_D, c_F, B, inv_k, K, c_P=None):
     """Reverse salt flux and the salinities at the two faces of the active layer at water flux J (Tiraferri et al.
-    2011 with the same salt on both sides; total salinities)."""
+    2011; total salinities). ``c_P``: the part of the feed's salt that passes (the draw's own salt), default all."""
+    c_P = c_F if c_P is None else c_P
     Jc = np.maximum(J, 1e-30)
     with np.errstate(over="ignore", invalid="ignore"):
         a = np.where(inv_k > 0, np.expm1(np.minimum(Jc * inv_k, 50.0)) / Jc, 0.0)   # (e^{J/k} - 1)/J -> 1/k
         b = np.where(K > 0, -np.expm1(-Jc * K) / Jc, 0.0)                        # (1 - e^{-J K})/J -> K
     e_F, e_D = 1.0 + Jc * a, 1.0 - Jc * b                                          # e^{J/k}, e^{-J K}
-    Js = B * (c_D * e_D - c_F * e_F) / (1.0 + B * (a + b))
+    Js = B * (c_D * e_D - c_P * e_F) / (1.0 + B * (a + b))
     return Js, c_D * e_D - Js * b, c_F * e_F + Js * a
 
 
-def _interfaces_slope(J, c_D, c_F, B, inv_k, K):
+def _interfaces_slope(J, c_D, c_F, B, inv_k, K, c_P):
     """:func:`_interfaces` with the derivatives of the two interface salinities in J (for Newton's method)."""
     Jc = np.maximum(J, 1e-30)
     with np.errstate(over="ignore", invalid="ignore"):
@@ -187,39 +192,42 @@ def _interfaces_slope(J, c_D, c_F, B, inv_k, K):
     da = (e_F * inv_k - a) / Jc                          # d/dJ of (e^{J/k} - 1)/J
     db = (K * e_D - b) / Jc                              # d/dJ of (1 - e^{-J K})/J
     M = 1.0 + B * (a + b)
-    cDe, cFe = c_D * e_D, c_F * e_F
-    N = cDe - cFe
+    cDe, cFe, cPe = c_D * e_D, c_F * e_F, c_P * e_F
+    N = cDe - cPe
     Js = B * N / M
-    gD, gF = -(cDe * K), cFe * inv_k                      # d/dJ of c_D e^{-J K} and of c_F e^{J/k}
-    dJs = B * ((gD - gF) * M - N * B * (da + db)) / (M * M)
+    gD, gF, gP = -(cDe * K), cFe * inv_k, cPe * inv_k     # d/dJ of c_D e^{-J K}, c_F e^{J/k} and c_P e^{J/k}
+    dJs = B * ((gD - gP) * M - N * B * (da + db)) / (M * M)
     return Js, cDe - Js * b, cFe + Js * a, gD - dJs * b - Js * db, gF + dJs * a + Js * da
 
 
-def flux_residual(J, c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F):
+def flux_residual(J, c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, c_P=None):
     """Residual [m/s] of the local flux equation, J - A (Pi_D(c_D,i) - Pi_F(c_F,m)), at water flux J [m/s]
     (interfaces from :func:`local_flux`'s transport model). Zero at the solution."""
     K = np.asarray(S_struct, dtype=float) / D
     k = np.asarray(k, dtype=float)
     inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
-    _, cDi, cFm = _interfaces(J, c_D, c_F, B, inv_k, K)
+    _, cDi, cFm = _interfaces(J, c_D, c_F, B, inv_k, K, c_P)
     return J - A * (pi_D(np.clip(cDi, 0.0, S_CAP), T) - pi_F(np.clip(cFm, 0.0, S_CAP), T))
 
 
 def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None, max_iter=FLUX_MAX_ITER,
-               stats=None, prepared=None):
+               stats=None, prepared=None, c_P=None):
     """Water flux J [m/s], reverse salt flux J_s [m/s x kg/kg] and the salinities at the two faces of the active
     layer (c_D,i, c_F,m) [kg/kg] of an FO membrane in FO mode, with bulk draw c_D and feed c_F [kg/kg] beside it.
     Vectorised; every argument broadcasts.
 
-    Transport (Tiraferri et al. 2011, eq. 2, and Yip et al. 2010, written on total salinities with the same salt on
-    both sides, the feed's salts counting as NaCl for the membrane)::
+    Transport (Tiraferri et al. 2011, eq. 2, and Yip et al. 2010, written on total salinities; of the feed's salt
+    only c_P passes, with the draw's permeability)::
 
-        J_s  = B (c_D e^{-J K} - c_F e^{J/k}) / (1 + (B/J)(e^{J/k} - e^{-J K}))      K = S_struct / D
+        J_s  = B (c_D e^{-J K} - c_P e^{J/k}) / (1 + (B/J)(e^{J/k} - e^{-J K}))      K = S_struct / D
         c_D,i = c_D e^{-J K} - (J_s/J)(1 - e^{-J K}),  c_F,m = c_F e^{J/k} + (J_s/J)(e^{J/k} - 1)
         J = A (Pi_D(c_D,i) - Pi_F(c_F,m))
 
     With linear osmotic pressures (Pi = k_pi c for both) this is Tiraferri's closed form exactly; with our activity
-    models only the last line is nonlinear. J_s < 0 would be a net forward flux of salt.
+    models only the last line is nonlinear. J_s > 0 is the reverse salt flux (draw salt to the feed); J_s < 0
+    would be a net forward flux of the draw's salt. Against a feed free of that salt (c_P = 0) and with a van 't
+    Hoff osmotic pressure, J_s / J = B / (A n R T) in moles, whatever the draw and the support (Phillip, Yip and
+    Elimelech 2010, Environ. Sci. Technol. 44, 5170-5176).
 
     Solved by Newton's method (the residual's analytic slope, with the osmotic tables' own slopes) safeguarded by
     the bracket [0, A (Pi_D(c_D) - Pi_F(c_F))],
@@ -229,22 +237,26 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     equation (the draw is not stronger than the feed across the active layer), J = 0. ``stats`` (a dict), if given,
     receives the number of iterations and residual evaluations and the largest scaled residual. ``prepared``
     (the exchanger's march, which calls this at every step) is (K, 1/k) for inputs that are already 1-D float
-    arrays of one size, so that nothing is broadcast or recomputed per call.
+    arrays of one size, so that nothing is broadcast or recomputed per call. ``c_P`` [kg/kg] is the part of the
+    feed's salt c_F that passes the membrane (the draw's own salt; the rest is retained and only polarises); by
+    default all of it, the same salt on both sides.
     """
     if prepared is not None:
         K, inv_k = prepared
         shape = c_D.shape
+        c_P = c_F if c_P is None else c_P
     else:
-        c_D, c_F, T, A, B, S_struct, D, k = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
-            c_D, c_F, T, A, B, S_struct, D, k)))
+        c_P = c_F if c_P is None else c_P
+        c_D, c_F, c_P, T, A, B, S_struct, D, k = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
+            c_D, c_F, c_P, T, A, B, S_struct, D, k)))
         shape = c_D.shape
-        c_D, c_F, T, A, B, K, k = (x.ravel() for x in (c_D, c_F, T, A, B, S_struct / D, k))
+        c_D, c_F, c_P, T, A, B, K, k = (x.ravel() for x in (c_D, c_F, c_P, T, A, B, S_struct / D, k))
         inv_k = np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k))
 
     both_D, both_F = _ro._value_and_slope(pi_D), _ro._value_and_slope(pi_F)
 
     def resid_slope(J, i):
-        Js, cDi, cFm, dD, dF = _interfaces_slope(J, c_D[i], c_F[i], B[i], inv_k[i], K[i])
+        Js, cDi, cFm, dD, dF = _interfaces_slope(J, c_D[i], c_F[i], B[i], inv_k[i], K[i], c_P[i])
         pD, sD = both_D(np.minimum(np.maximum(cDi, 0.0), S_CAP), T[i])
         pF, sF = both_F(np.minimum(np.maximum(cFm, 0.0), S_CAP), T[i])
         sD = np.where((cDi > 0) & (cDi < S_CAP), sD * dD, 0.0)
@@ -259,7 +271,7 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     # a positive root exists where the residual is negative just above J = 0 (the bracket's other end has
     # r(J_hi) >= 0: polarisation and salt passage only lower the driving force); the interfaces as J -> 0 in closed
     # form: (e^{J/k} - 1)/J -> 1/k, (1 - e^{-J K})/J -> K
-    Js0 = B * (c_D - c_F) / (1.0 + B * (inv_k + K))
+    Js0 = B * (c_D - c_P) / (1.0 + B * (inv_k + K))
     r0 = -A * (pi_D(cap(c_D - Js0 * K), T) - pi_F(cap(c_F + Js0 * inv_k), T))
     on = (J_hi > 0) & (r0 < 0)
     lo, hi = np.zeros(n), np.where(on, J_hi, 0.0)
@@ -293,11 +305,37 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
         stats.update(iterations=it, evaluations=evaluations, unconverged=int(active.size), worst=worst * rtol)
     if active.size:                                             # unsettled after every iteration
         Js[active], cDi[active], cFm[active] = _interfaces(J[active], c_D[active], c_F[active], B[active],
-                                                           inv_k[active], K[active])
+                                                           inv_k[active], K[active], c_P[active])
     off = ~on
     rs = lambda x: x.reshape(shape)  # noqa: E731
     return (rs(np.where(off, 0.0, J)), rs(np.where(off, 0.0, Js)), rs(np.where(off, c_D, cDi)),
             rs(np.where(off, c_F, cFm)))
+
+
+#: share of sea salt's mass that is sodium and chloride, the draw's own salt: (10.78145 + 19.35271) / 35.16504 g/kg
+#: in the Reference Composition (Millero, Feistel, Wright and McDougall 2008, Deep-Sea Res. I 55, 50-72, table 4;
+#: from memory)
+SEAWATER_NACL_SHARE = (10.78145 + 19.35271) / 35.16504
+
+
+def feed_passing_share(model) -> float:
+    """The share of a feed's salt that passes an FO membrane with the NaCl draw's permeability: its sodium and
+    chloride (the draw's own salt); the other ions are taken as retained (from memory: thin-film composite
+    membranes retain divalent ions far better than NaCl). NaCl: all; seawater: :data:`SEAWATER_NACL_SHARE`; an
+    ion composition: its Na and Cl share (with a model that does not carry the composition, seawater's).
+
+    Examples
+    --------
+    >>> from compare.thermo.activity import get_model
+    >>> round(feed_passing_share(get_model("teos10", "seawater")), 4)
+    0.8569
+    """
+    if model.water == "nacl":
+        return 1.0
+    shares = model.extra.get("shares") if isinstance(model.extra, dict) else None
+    if shares:
+        return float(shares.get("Na", 0.0) + shares.get("Cl", 0.0))
+    return SEAWATER_NACL_SHARE
 
 
 #: NaCl solubility at 25 degC, 6.14 mol/kg (from memory: CRC Handbook of Chemistry and Physics, about 26.4 % by
@@ -316,10 +354,11 @@ def _march(u, a, pi_D, pi_F, steps):
     T, A, B, Ss, D, k, rho, r, m = (a[x] for x in ("T", "A", "B", "S_struct", "D", "k", "rho", "r", "m_din"))
     dm = r / steps
     Qf, sf = np.ones(u.size), a["S_f"].copy()
+    sp = a["S_f"] * a.get("passing", 1.0)            # the feed's salt that passes (the draw's own), which it gains
     md = m + r
     sd = u * md
     pre = (Ss / D, np.where(np.isinf(k), 0.0, 1.0 / np.where(np.isinf(k), 1.0, k)))   # as local_flux makes them
-    J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T, A, B, Ss, D, k, pi_D, pi_F, prepared=pre)
+    J0, Js0, _, _ = local_flux(sd / md, sf / Qf, T, A, B, Ss, D, k, pi_D, pi_F, prepared=pre, c_P=sp / Qf)
     area, passed = np.zeros(u.size), np.zeros(u.size)
     margin = pi_D(sd / md, T) - pi_F(sf / Qf, T)
     J_prev = J0
@@ -330,12 +369,12 @@ def _march(u, a, pi_D, pi_F, steps):
             ds_pred = Js0 * dm / np.maximum(J0, 1e-30)
             Qf1, md1 = Qf - dm, md - dm
             J1, Js1, _, _ = local_flux((sd + ds_pred) / md1, (sf + ds_pred) / Qf1, T, A, B, Ss, D, k,
-                                       pi_D, pi_F, J0=2 * J0 - J_prev, prepared=pre)
+                                       pi_D, pi_F, J0=2 * J0 - J_prev, prepared=pre, c_P=(sp + ds_pred) / Qf1)
             J_prev = J0
             dA = dm / rho * _ro._log_mean_inverse(J0, J1)
             ds = rho * 0.5 * (Js0 + Js1) * np.where(np.isfinite(dA), dA, 0.0)
             area, passed = area + dA, passed + ds
-            Qf, md, sf, sd = Qf1, md1, sf + ds, sd + ds
+            Qf, md, sf, sd, sp = Qf1, md1, sf + ds, sd + ds, sp + ds
             margin = np.minimum(margin, pi_D(sd / md, T) - pi_F(sf / Qf, T))
             J0, Js0 = J1, Js1
     return dict(area=area, passed=passed, S_din=sd / m, margin=margin)
@@ -529,7 +568,8 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
     rho = _brine.density(np.zeros(size), T, feed.water)           # permeate (water) density
     steps = int(np.max(p.segments))
     a = dict(S_f=S_f, T=T, r=r, m_din=m_din, A=A, B=B, S_struct=b(p.structural_parameter),
-             D=b(p.draw_diffusivity), k=b(p.mass_transfer_coefficient), rho=rho)
+             D=b(p.draw_diffusivity), k=b(p.mass_transfer_coefficient), rho=rho,
+             passing=np.full(size, feed_passing_share(feed.model)))
     if p.draw_concentration is None:
         # design mode: the draw that gives the design average flux over the exchanger
         ex = design_draw(a, r / (rho * b(p.flux)), pi_D, pi_F, steps)
@@ -647,10 +687,10 @@ DETAILS = {
     "draw_flow_ratio": Detail("regenerated draw per kg of feed", "kg/kg"),
     "average_flux": Detail("FO average flux", "L/m2/h"),
     "fo_membrane_area": Detail("FO membrane area", "m2", "max"),
-    "reverse_salt_flux": Detail("reverse salt flux", "g/m2/h"),
+    "reverse_salt_flux": Detail("reverse salt flux (draw salt passing to the feed)", "g/m2/h"),
     "min_osmotic_margin": Detail("smallest osmotic-pressure margin along the exchanger", "bar", "min"),
     "brine_wall_salinity": Detail("brine at the membrane, polarised at the mean flux", "g/kg"),
-    "draw_makeup": Detail("draw salt make-up (draw salt lost to the brine and the product, net of the feed salt it gains; 0 when it gains more)", "kg/m3"),
+    "draw_makeup": Detail("draw salt make-up (draw salt lost to the brine and the product)", "kg/m3"),
     "regenerator_recovery": Detail("regenerator recovery", "-"),
     "regenerator_feed_pressure": Detail("regenerator feed pressure", "bar"),
     "regenerator_ro_step": Detail("regenerator RO step electricity", "kWh/m3"),
