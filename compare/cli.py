@@ -84,7 +84,7 @@ def cmd_floor(args) -> int:
     """``desal floor``: least work and osmotic pressure of one feed."""
     from .present import CAUTION
     from .present.records import floor_record
-    from .present.tables import markdown_report, print_tables, rich_table
+    from .present.tables import Layout, markdown_report, print_tables, rich_table
     from .thermo.activity import get_model
     from .thermo.brine import mass_fraction_from_concentration
     from .units import parse_salinity, parse_temperature
@@ -133,12 +133,12 @@ def cmd_floor(args) -> int:
         ["feed salinity [g/kg]", rec["salinity_g_per_kg"]],
         ["temperature [degC]", rec["temperature_c"]],
         ["product salinity [g/kg]", rec["product_salinity_g_per_kg"]],
-        ["water activity [-]", f"{rec['water_activity']:.6f}"],
-        ["osmotic coefficient [-]", f"{rec['osmotic_coefficient']:.5f}"],
+        ["water activity", f"{rec['water_activity']:.6f}"],
+        ["osmotic coefficient", f"{rec['osmotic_coefficient']:.5f}"],
         ["osmotic pressure [bar]", rec["osmotic_pressure_bar"]],
         ["least work, zero recovery [kWh/m3]", rec["least_work_kwh_per_m3_zero_recovery"]],
     ]
-    rec_cols = ["recovery [-]", "brine [g/kg]", "brine osmotic pressure [bar]", "least work [kWh/m3]"]
+    rec_cols = ["recovery", "brine [g/kg]", "brine osmotic pressure [bar]", "least work [kWh/m3]"]
     rec_rows = [list(x) for x in zip(np.atleast_1d(rec["recovery"]), np.atleast_1d(rec["brine_salinity_g_per_kg"]),
                                      np.atleast_1d(rec["brine_osmotic_pressure_bar"]),
                                      np.atleast_1d(rec["least_work_kwh_per_m3"]))]
@@ -153,11 +153,12 @@ def cmd_floor(args) -> int:
                      least_work_kwh_per_m3=row[3], flags=codes, warnings=rec["warnings"]) for row in rec_rows]
 
     def table():
-        print_tables(_console(), [rich_table("Thermodynamic floor", ["feed", "value"], feed_rows),
+        print_tables(_console(), [rich_table("Thermodynamic floor", ["feed", "value"], feed_rows,
+                                             layout=Layout("mixed")),
                                   rich_table("", rec_cols, rec_rows)], rec["warnings"])
 
     def markdown():
-        return markdown_report("Thermodynamic floor", [("Feed", ["feed", "value"], feed_rows),
+        return markdown_report("Thermodynamic floor", [("Feed", ["feed", "value"], feed_rows, Layout("mixed")),
                                                        ("Recovery", rec_cols, rec_rows)], rec["warnings"])
 
     _emit(args.format, rec, table=table, markdown=markdown, csv_rows=csv_rows)
@@ -166,15 +167,16 @@ def cmd_floor(args) -> int:
 
 def cmd_models(args) -> int:
     """``desal models``: property and technology models with validity ranges and references."""
-    from .present.tables import markdown_report, print_tables, rich_table
+    from .present.tables import Layout, markdown_report, print_tables, rich_table
     from .registry import model_catalogue
 
     cat = model_catalogue()
     cols = ["kind", "name", "applies to", "validity", "reference"]
     rows = [[m["kind"], m["name"], m["applies_to"], m["validity"], m["reference"]] for m in cat]
+    layout = Layout("mixed", text=(2, 3, 4), keys=(1,))
     _emit(args.format, {"models": cat},
-          table=lambda: print_tables(_console(), [rich_table("Models", cols, rows)], []),
-          markdown=lambda: markdown_report("Models", [("", cols, rows)], []),
+          table=lambda: print_tables(_console(), [rich_table("Models", cols, rows, layout=layout)], []),
+          markdown=lambda: markdown_report("Models", [("", cols, rows, layout)], []),
           csv_rows=lambda: cat)
     return 0
 
@@ -451,10 +453,11 @@ def _write_part(folder, index: int, frame) -> None:
 
 def cmd_check(args) -> int:
     """``desal check``: validate scenarios and print every resolved value with its source."""
-    from .present.tables import markdown_report, print_tables, rich_table
+    from .present.tables import Layout, markdown_report, print_tables, rich_table
 
     scenarios = _load_all(args.scenario, args.set or [])
     payload, tables, sections = [], [], []
+    layout = Layout("mixed", text=(1, 2), keys=(0,))
     for s in scenarios:
         rows = [[k, _show_value(s.texts[k]), s.sources[k]] for k in s.texts]
         payload.append({"scenario": s.name, "path": s.path, "sha256": s.sha256,
@@ -462,8 +465,8 @@ def cmd_check(args) -> int:
                         "rank_correlations": [{"keys": list(k), "rho": r} for k, r in sorted(s.correlation.items())],
                         "inputs": {k: {"value": s.texts[k], "source": s.sources[k]} for k in s.texts}})
         tables.append(rich_table(f"{s.name}: valid; compares {', '.join(s.technologies) or 'no technology'}",
-                                 ["key", "value", "source"], rows))
-        sections.append((s.name, ["key", "value", "source"], rows))
+                                 ["key", "value", "source"], rows, layout=layout))
+        sections.append((s.name, ["key", "value", "source"], rows, layout))
     _emit(args.format, payload[0] if len(payload) == 1 else payload,
           table=lambda: print_tables(_console(), tables, []),
           markdown=lambda: markdown_report("Resolved scenarios", sections, []),
@@ -472,11 +475,8 @@ def cmd_check(args) -> int:
 
 
 def _show_value(v):
-    if isinstance(v, list):
-        return ", ".join(map(str, v))
-    if isinstance(v, dict):
-        return ", ".join(f"{k} = {x}" for k, x in v.items())
-    return str(v)
+    from .present.tables import as_written
+    return as_written(v)
 
 
 # ------------------------------------------------------------------------------------------------ report, claims

@@ -598,7 +598,7 @@ def separation(shares: dict, intervals: dict, n: int, criterion: str) -> dict:
     if len(ranked) == 1 or shares[ranked[1]] == 0:
         return {"first": a, "separated": True,
                 "statement": f"{a.upper()} ranks first on {criterion} in {pct(a)} of samples; no other technology "
-                             f"ranks first in any"}
+                             "ranks first in any sample"}
     b = ranked[1]
     if intervals[a][0] > intervals[b][1]:
         return {"first": a, "second": b, "separated": True,

@@ -3,7 +3,10 @@
 from __future__ import annotations
 
 from . import CAUTION
-from .tables import fmt_number
+from .tables import Layout, as_written, fmt_number
+
+#: the keys a design sets: key, value as written, why
+PARAMETERS = Layout("mixed", text=(1, 2), keys=(0,))
 
 VERDICT_WORDS = {
     "below_floor": "impossible: below the least work of its own streams",
@@ -29,7 +32,8 @@ def figure_rows(j: dict) -> list[list]:
 
 def parameter_rows(j: dict, design: str = "best_practice") -> list[list]:
     """The keys a design sets (best practice: changed from the scenario's design), each with its reason."""
-    return [[k, v["value"], v["why"]] for k, v in j[design]["parameters"].items()]
+    return [[k, v["value"] if isinstance(v["value"], (int, float)) and not isinstance(v["value"], bool)
+             else as_written(v["value"]), v["why"]] for k, v in j[design]["parameters"].items()]
 
 
 def notes(j: dict) -> list[str]:
@@ -65,10 +69,8 @@ def print_claims(console, body: dict) -> None:
         for design, heading in (("best_practice", "best-practice design: keys changed from the scenario's"),
                                 ("scenario_design", "scenario's design: keys changed for the scope")):
             if j[design]["parameters"]:
-                table = rich_table(heading, ["key", "value", "why"], parameter_rows(j, design))
-                for column in table.columns[1:]:
-                    column.justify = "left"
-                console.print(table)
+                console.print(rich_table(heading, ["key", "value", "why"], parameter_rows(j, design),
+                                         layout=PARAMETERS))
         style = {"below_floor": "bold red", "below_model": "bold yellow", "within_model": "bold green",
                  "above_model": "bold magenta"}[j["verdict"]]
         lines = list(notes(j))
@@ -90,10 +92,10 @@ def claims_markdown(body: dict) -> str:
         parts += [f"## {md(title(j))}", "", f"**{md(j['verdict'])}**", "",
                   markdown_table(["compared (work equivalent)", "kWh/m3"], figure_rows(j)), "",
                   "Best-practice design, keys changed from the scenario's:", "",
-                  markdown_table(["key", "value", "why"], parameter_rows(j)), ""]
+                  markdown_table(["key", "value", "why"], parameter_rows(j), PARAMETERS), ""]
         if j["scenario_design"]["parameters"]:
             parts += ["Scenario's design, keys changed for the scope:", "",
-                      markdown_table(["key", "value", "why"], parameter_rows(j, "scenario_design")), ""]
+                      markdown_table(["key", "value", "why"], parameter_rows(j, "scenario_design"), PARAMETERS), ""]
         parts += [f"- {md(line)}" for line in notes(j)] + [""]
     parts += [f"> {CAUTION}", ""]
     return "\n".join(parts)

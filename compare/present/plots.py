@@ -101,6 +101,7 @@ def grid_figure(sr, folder) -> list[str]:
     from matplotlib.lines import Line2D
 
     from ..sweep import break_even
+    from .tables import fmt_number, with_unit
     plt = _plt()
     ax0 = sr.axes[0]
     shape = tuple(a.values.size for a in sr.axes)
@@ -134,7 +135,7 @@ def grid_figure(sr, folder) -> list[str]:
                 where = f"\n({tail(rests[j])})" if len(rests) > 1 else ""
                 right = c["value"] > 0.6 * ax0.display.max() + 0.4 * ax0.display.min()
                 ax.annotate(f"{(c['from'] or 'none').upper()} to {(c['to'] or 'none').upper()}\n"
-                            f"at {c['value']:.3g} {c['unit']}{where}", (c["value"], 1.0),
+                            f"at {with_unit(fmt_number(c['value'], 3), c['unit'])}{where}", (c["value"], 1.0),
                             xycoords=("data", "axes fraction"), xytext=(-3 if right else 3, -3 - 30 * shown),
                             textcoords="offset points", fontsize=7.5, va="top", ha="right" if right else "left",
                             color="0.2", bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none",
@@ -227,9 +228,9 @@ def _key_words(sens: dict, key: str, rows: list) -> str:
     if r is None or "low" not in r:
         return key_label(key)
     words = key_label(key, technology=r["technology"])
-    from .tables import fmt_number
-    unit = "" if r["unit"] == "-" else f" {r['unit']}"
-    return f"{words}\n{fmt_number(r['low'], 3)} to {fmt_number(r['high'], 3)}{unit}"
+    from .tables import fmt_group, with_unit
+    lo, hi = fmt_group([r["low"], r["high"]], 3)
+    return f"{words}\n" + with_unit(f"{lo} to {hi}", r["unit"])
 
 
 def tornado_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per_m3") -> list[str]:

@@ -18,7 +18,7 @@ from pathlib import Path
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
 from .fields import COST_LINES, design_note
-from .tables import build_up_rows, fmt_number
+from .tables import as_written, bracket_unit, build_up_rows, fixed, fmt_number, shared_decimals, with_unit
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -131,7 +131,7 @@ def cost_build_up(recs: list[dict]) -> list[dict]:
         if rows:
             out.append({"title": title, "unit": unit,
                         "rows": [{"label": row[0].strip().rstrip(":"), "cause": not row[0].startswith(" "),
-                                  "values": ["" if v == "" else fmt(v, digits) for v in row[1:]]}
+                                  "values": ["" if v == "" else x for v, x in zip(row[1:], fmt_row(row[1:], digits))]}
                                  for row in rows]})
     return out
 
@@ -143,23 +143,27 @@ def _get(r, field):
     return _num(v)
 
 
-def fmt(v, digits: int = 4) -> str:
+def fmt(v, digits: int = 4, whole: bool = True) -> str:
     """A figure for the page: thousands grouped from 10,000 up, else ``digits`` significant figures; None as a
-    dash."""
+    dash. A whole number shows as an integer only when ``whole`` (its column is all whole numbers)."""
     v = _num(v)
     if v is None:
         return "—"
     if abs(v) >= 1e4:
-        return f"{v:,.0f}"
-    return fmt_number(v, digits)
+        return fixed(v, 0)
+    return fmt_number(v, digits, whole=whole)
+
+
+def fmt_row(values, digits: int = 4) -> list[str]:
+    """Figures of one quantity (a row of technologies, a column) with the decimals they share; None as a dash."""
+    nums = [_num(v) for v in values]
+    d = shared_decimals([v for v in nums if v is not None], digits)
+    return ["—" if v is None else fmt(v, digits, whole=False) if d is None else fixed(v, d) for v in nums]
 
 
 def _show(v) -> str:
-    if isinstance(v, list):
-        return ", ".join(map(str, v))
-    if isinstance(v, dict):
-        return ", ".join(f"{k} = {x}" for k, x in v.items())
-    return "" if v is None else str(v)
+    """A scenario value as its TOML file writes it (``true``, not ``True``)."""
+    return as_written(v)
 
 
 # ------------------------------------------------------------------------------------------------------ flags
@@ -255,7 +259,7 @@ def sweep_figures(sweep: dict) -> list[dict]:
         held = []
         for a, c in zip(s["grid"][1:], sweep["columns"][1:]):       # other keys held at their first value
             sub = sub[np.isclose(sub[c], a["values"][0])]
-            held.append(f"{a['key']} = {fmt_number(a['values'][0])} {a['unit']}")
+            held.append(with_unit(f"{a['key']} = {fmt_number(a['values'][0])}", a["unit"]))
         for metric, ylabel, criterion in metrics:
             series = []
             x = None
@@ -273,7 +277,7 @@ def sweep_figures(sweep: dict) -> list[dict]:
             if metric == "work_equivalent_kwh_per_m3" and "floor_least_work_kwh_per_m3" in sub:
                 hline = (float(sub["floor_least_work_kwh_per_m3"].iloc[0]), "floor, zero recovery")
             title = f"{ylabel.split(' [')[0].capitalize()} along {axis['key']}"
-            svg = line_chart(x, series, xlabel=f"{axis['key']} [{axis['unit']}]", ylabel=ylabel,
+            svg = line_chart(x, series, xlabel=bracket_unit(axis["key"], axis["unit"]), ylabel=ylabel,
                              label=title, vlines=vlines, hline=hline, cls=f"sweep-{criterion}")
             note = ("First place changes where the dotted lines are (break-even). " if vlines else
                     "First place does not change along this grid. ")
@@ -294,6 +298,10 @@ def sweep_figures(sweep: dict) -> list[dict]:
     return figures
 
 
+def _axis_unit(summary: dict, key: str) -> str:
+    return next((a.get("unit", "") for a in summary.get("grid") or [] if a.get("key") == key), "")
+
+
 def sweep_context(sweep: dict) -> dict:
     s = sweep["summary"]
     shares = []
@@ -308,7 +316,14 @@ def sweep_context(sweep: dict) -> dict:
         shares.append({"criterion": r["criterion"],
                        "shares": ", ".join(share(k, v) for k, v in r.get("first_share", {}).items() if v),
                        "statement": _sentence(statement) if statement else ""})
-    changes = [c for r in s.get("ranking", []) for c in r.get("changes", [])]
+    changes = []
+    for r in s.get("ranking", []):
+        for c in r.get("changes", []):
+            where = (with_unit(fmt_number(c["value"]), c.get("unit")) if c.get("kind") == "crossing"
+                     and c.get("value") is not None else "")
+            at = ", ".join(with_unit(f"{k} = {fmt_number(v)}", c.get("units", {}).get(k) or _axis_unit(s, k))
+                           for k, v in (c.get("at") or {}).items())
+            changes.append({**c, "where": where, "at": at})
     flags = [dict(f) for f in s.get("flags") or []]
     if not flags:
         flags = [{"kind": "warning", "message": w if isinstance(w, str) else w.get("message", str(w))}
@@ -366,17 +381,20 @@ def design_items(rec: dict, periods: int = 1) -> list[tuple[str, str]]:
     capital = next((f for f in SITE_DETAILS if f.name == "capital"), None)
     for f in ([capital] if capital else []):
         if _num(details.get(f.name)) is not None:
-            items.append((unit_label(f.label, f.unit, currency), fmt(details[f.name])))
+            items.append((unit_label(f.label, f.unit, currency), details[f.name]))
         shown.add(f.name)
     for key, d in detail_table(rec["technology"]).items():
         name = record_name(key, d.unit)
         shown.add(name)
         if _num(details.get(name)) is not None:
-            items.append((detail_label(d, periods), fmt(details[name])))
+            items.append((detail_label(d, periods), details[name]))
     for k, v in details.items():
         if k not in shown and v is not None:
-            items.append((k, fmt(v) if _num(v) is not None else _show(v)))
-    return items
+            items.append((k, v if _num(v) is not None else _show(v)))
+    # a column of different figures: each its own significant figures, a whole number as an integer only when
+    # every figure is whole (counts are ints and stay so)
+    whole = all(float(v) == int(v) for _, v in items if isinstance(v, (int, float)) and _num(v) is not None)
+    return [(k, v if isinstance(v, str) else fmt(v, whole=whole or isinstance(v, int))) for k, v in items]
 
 
 def _glance(payload: dict, judgements=()) -> list[str]:
@@ -393,8 +411,9 @@ def _glance(payload: dict, judgements=()) -> list[str]:
         ranked = sorted((r for r in recs if _num(r.get(field)) is not None), key=lambda r: r[field])
         if ranked:
             unit_ = unit.format(currency=ranked[0]["currency"])
-            rest = "; ".join(f"{r['technology'].upper()} {fmt_number(r[field], 3)}" for r in ranked[1:])
-            out.append(f"Lowest {label}: {ranked[0]['technology'].upper()}, {fmt_number(ranked[0][field], 3)} "
+            shown = fmt_row([r[field] for r in ranked])          # one quantity: shared decimals
+            rest = "; ".join(f"{r['technology'].upper()} {x}" for r, x in zip(ranked[1:], shown[1:]))
+            out.append(f"Lowest {label}: {ranked[0]['technology'].upper()}, {shown[0]} "
                        f"{unit_}" + (f" (then {rest})." if rest else "."))
     bad = [r["technology"].upper() for r in payload["results"] if not r["feasible"]]
     if bad:
@@ -450,7 +469,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
             continue     # no technology uses heat: leave its rows out
         table.append({"group": grp if grp != group else "", "label": label,
                       "unit": unit.format(currency=currency),
-                      "values": [fmt(v, digits + 1) for v in values]})
+                      "values": fmt_row(values, digits + 1)})
         group = grp
     table.insert(0, {"group": "", "label": "feasible", "unit": "",
                      "values": ["yes" if r["feasible"] else "NO" for r in recs]})
@@ -481,26 +500,30 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
     site = [{"key": k, "value": _show(inputs[k]["value"]), "source": inputs[k]["source"]}
             for k in SITE_KEYS if k in inputs]
     floor = payload["floor"]
+    # a column of different quantities: each its own significant figures, none shown as a bare integer
     floor_rows = [
         ("activity model", floor.get("model"), ""),
-        ("feed salinity", fmt_number(_num(floor.get("feed_salinity_g_per_kg")), 4), "g/kg"),
-        ("feed temperature (production-weighted)", fmt_number(_num(floor.get("feed_temperature_c")), 4), "degC"),
-        ("water activity", f"{floor['water_activity']:.5f}" if _num(floor.get("water_activity")) else "—", "-"),
-        ("osmotic pressure", fmt_number(_num(floor.get("osmotic_pressure_bar")), 4), "bar"),
+        ("feed salinity", fmt(floor.get("feed_salinity_g_per_kg"), 4, whole=False), "g/kg"),
+        ("feed temperature (production-weighted)", fmt(floor.get("feed_temperature_c"), 4, whole=False), "degC"),
+        ("water activity", f"{floor['water_activity']:.5f}" if _num(floor.get("water_activity")) else "—", ""),
+        ("osmotic pressure", fmt(floor.get("osmotic_pressure_bar"), 4, whole=False), "bar"),
         ("least work at zero recovery (the floor)",
-         fmt_number(_num(floor.get("least_work_kwh_per_m3_zero_recovery")), 4), "kWh/m3"),
+         fmt(floor.get("least_work_kwh_per_m3_zero_recovery"), 4, whole=False), "kWh/m3"),
     ]
     floor_rows = [row for row in floor_rows if row[1] not in (None, "—")]
-    own = [{"name": r["technology"].upper(), "recovery": fmt_number(_num(r.get("recovery")), 3),
-            "least_work": fmt_number(_num(r.get("least_work_kwh_per_m3")), 4)} for r in recs]
+    own = [{"name": r["technology"].upper(), "recovery": x, "least_work": y}
+           for r, x, y in zip(recs, fmt_row([r.get("recovery") for r in recs], 3),
+                              fmt_row([r.get("least_work_kwh_per_m3") for r in recs], 4))]
     claims = []
     for j in judgements:
         from .claims import figure_rows, notes, title
+        rows = figure_rows(j)
         claims.append({"title": title(j), "verdict": j["verdict"], "words": VERDICT_WORDS[j["verdict"]],
-                       "figures": [(f, fmt_number(_num(v), 4) if _num(v) is not None else "— (no feasible design)")
-                                   for f, v in figure_rows(j)],
+                       "figures": [(f, x if _num(v) is not None else "— (no feasible design)")
+                                   for (f, v), x in zip(rows, fmt_row([v for _, v in rows]))],
                        "notes": notes(j)[1:], "explanation": _sentence(j["explanation"]),
-                       "parameters": [(k, v["value"], v["why"]) for k, v in j["best_practice"]["parameters"].items()],
+                       "parameters": [(k, _show(v["value"]), v["why"])
+                                      for k, v in j["best_practice"]["parameters"].items()],
                        "source": j["claim"].get("source", "")})
     return {
         "title": f"{payload['scenario']}: desalination energy screening",

@@ -37,6 +37,26 @@ def nice_ticks(lo: float, hi: float, n: int = 5) -> list[float]:
     return ticks
 
 
+def tick_labels(ticks) -> list[str]:
+    """Labels of one axis with the decimals its step needs, the same for every tick ("0.0 2.5 5.0", never
+    "0 2.5 5").
+
+    Examples
+    --------
+    >>> tick_labels([0.0, 2.5, 5.0, 7.5]), tick_labels([0.0, 500.0, 1000.0]), tick_labels([-0.1, 0.0, 0.1])
+    (['0.0', '2.5', '5.0', '7.5'], ['0', '500', '1,000'], ['-0.1', '0.0', '0.1'])
+    """
+    from .tables import fixed
+    d = next((d for d in range(7) if all(abs(round(t, d) - t) <= 1e-9 * max(1.0, abs(t)) for t in ticks)), 6)
+    return [fixed(t, d) for t in ticks]
+
+
+def _shared(values) -> list[str]:
+    """Figures of one quantity (the bar totals of a chart) with shared decimals."""
+    from .tables import fmt_group, fmt_number
+    return [fmt_number(x) for x in fmt_group([float(v) for v in values])]
+
+
 def _fmt(v: float) -> str:
     if v == 0:
         return "0"
@@ -89,7 +109,7 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
     marks : optional (legend label, list of values or None per row): a black tick across each bar
     line : optional (legend label, value): a dashed vertical line across every row
     """
-    pad_l, pad_r, top = 8, 70, 8
+    pad_l, pad_r, top = 14, 70, 8
     legend = [(name, colour, "box") for name, colour in parts]
     if marks:
         legend.append((marks[0], "#000", "tick"))
@@ -106,6 +126,7 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
     y += 8
     row_h, bar_h = 48, 20
     y_rows = y
+    total_labels = iter(_shared(totals))
     for i, (name, vals, note) in enumerate(rows):
         ty = y + 15
         body.append(_text(pad_l, ty, name, weight="bold"))
@@ -123,8 +144,7 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
                 body.append(f'<rect x="{x:.2f}" y="{by:.1f}" width="{max(w, 0.5):.2f}" height="{bar_h}" '
                             f'fill="{colour}"><title>{escape(pname)}: {_fmt(v)} {escape(unit)}</title></rect>')
                 x += w
-            total = sum(v for v in vals if v is not None and math.isfinite(v))
-            body.append(_text(x + 5, by + 15, _fmt(total), size=FONT - 1))
+            body.append(_text(x + 5, by + 15, next(total_labels), size=FONT - 1))
         if marks and marks[1][i] is not None:
             mx = sx(marks[1][i])
             body.append(f'<line x1="{mx:.2f}" y1="{by - 5:.1f}" x2="{mx:.2f}" y2="{by + bar_h + 5:.1f}" '
@@ -136,10 +156,10 @@ def stacked_bars(rows, parts, *, unit: str, label: str, marks=None, line=None, w
         body.append(f'<line x1="{lx:.2f}" y1="{y_rows:.1f}" x2="{lx:.2f}" y2="{axis_y:.1f}" stroke="#444" '
                     f'stroke-width="1.5" stroke-dasharray="5 3"/>')
     body.append(f'<line x1="{pad_l}" y1="{axis_y:.1f}" x2="{pad_l + plot_w:.1f}" y2="{axis_y:.1f}" stroke="#444"/>')
-    for t in ticks:
+    for t, text in zip(ticks, tick_labels(ticks)):
         tx = sx(t)
         body.append(f'<line x1="{tx:.1f}" y1="{axis_y:.1f}" x2="{tx:.1f}" y2="{axis_y + 5:.1f}" stroke="#444"/>')
-        body.append(_text(tx, axis_y + 20, _fmt(t), anchor="middle", size=FONT - 2))
+        body.append(_text(tx, axis_y + 20, text, anchor="middle", size=FONT - 2))
     body.append(_text(pad_l + plot_w, axis_y + 38, unit, anchor="end", size=FONT - 1))
     return _svg(width, axis_y + 46, body, label, cls)
 
@@ -165,12 +185,12 @@ def line_chart(x, series, *, xlabel: str, ylabel: str, label: str, vlines=(), hl
     x0, x1 = pad_l, width - pad_r
     sx = lambda v: x0 + (x1 - x0) * (v - x.min()) / ((x.max() - x.min()) or 1.0)  # noqa: E731
     sy = lambda v: y1 - (y1 - y0) * (v - yt[0]) / ((yt[-1] - yt[0]) or 1.0)  # noqa: E731
-    for t in yt:
+    for t, text in zip(yt, tick_labels(yt)):
         body.append(f'<line x1="{x0}" y1="{sy(t):.1f}" x2="{x1}" y2="{sy(t):.1f}" stroke="#ddd"/>')
-        body.append(_text(x0 - 6, sy(t) + 5, _fmt(t), anchor="end", size=FONT - 2))
-    for t in xt:
+        body.append(_text(x0 - 6, sy(t) + 5, text, anchor="end", size=FONT - 2))
+    for t, text in zip(xt, tick_labels(xt)):
         body.append(f'<line x1="{sx(t):.1f}" y1="{y1}" x2="{sx(t):.1f}" y2="{y1 + 5}" stroke="#444"/>')
-        body.append(_text(sx(t), y1 + 20, _fmt(t), anchor="middle", size=FONT - 2))
+        body.append(_text(sx(t), y1 + 20, text, anchor="middle", size=FONT - 2))
     body.append(f'<line x1="{x0}" y1="{y1}" x2="{x1}" y2="{y1}" stroke="#444"/>')
     body.append(f'<line x1="{x0}" y1="{y0}" x2="{x0}" y2="{y1}" stroke="#444"/>')
     if hline:
@@ -238,8 +258,8 @@ def histogram_strips(groups, *, xlabel: str, label: str, bins: int = 30, width: 
         y += strip + 22
     axis_y = y + 2
     body.append(f'<line x1="{x0}" y1="{axis_y:.1f}" x2="{x1}" y2="{axis_y:.1f}" stroke="#444"/>')
-    for t in ticks:
+    for t, text in zip(ticks, tick_labels(ticks)):
         body.append(f'<line x1="{sx(t):.1f}" y1="{axis_y:.1f}" x2="{sx(t):.1f}" y2="{axis_y + 5:.1f}" stroke="#444"/>')
-        body.append(_text(sx(t), axis_y + 20, _fmt(t), anchor="middle", size=FONT - 2))
+        body.append(_text(sx(t), axis_y + 20, text, anchor="middle", size=FONT - 2))
     body.append(_text(x1, axis_y + 38, f"{xlabel}; bar: p10 to p90, dot: median", anchor="end", size=FONT - 1))
     return _svg(width, axis_y + 46, body, label, cls)

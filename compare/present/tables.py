@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
 from rich.console import Console
 from rich.markup import escape
@@ -30,52 +32,212 @@ def md(text) -> str:
     return re.sub(r"\](?=[(\[:])", r"\\]", printable(text).translate(_MARKDOWN))
 
 
-def _md_cell(x) -> str:
-    return md(x) if isinstance(x, str) else fmt_number(x)
+def as_written(v) -> str:
+    """A scenario value echoed as a TOML file writes it: booleans ``true``/``false``, lists and tables joined with
+    commas, anything else as its text (None as nothing).
+
+    Examples
+    --------
+    >>> as_written(True), as_written([False, "25 degC"]), as_written({"low": 0.7, "on": True})
+    ('true', 'false, 25 degC', 'low = 0.7, on = true')
+    """
+    if v is None:
+        return ""
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, (list, tuple)):
+        return ", ".join(as_written(x) for x in v)
+    if isinstance(v, dict):
+        return ", ".join(f"{k} = {as_written(x)}" for k, x in v.items())
+    return str(v)
 
 
-def fmt_number(v, digits: int = 4) -> str:
-    """A number for people: ``digits`` significant figures, thousands separators, whole numbers as integers, no
-    exponent for large values; None or NaN as an em-dash."""
+def fixed(v: float, decimals: int) -> str:
+    """``v`` with ``decimals`` decimals and thousands separators; a value that rounds to zero reads 0 whatever its
+    sign ("0.00", never "-0.00"). Every figure the tool prints with a set number of decimals goes through here.
+
+    Examples
+    --------
+    >>> fixed(-0.004, 2), fixed(1234.5, 1), fixed(-1.25, 1)
+    ('0.00', '1,234.5', '-1.2')
+    """
+    text = f"{v:,.{decimals}f}"
+    return text[1:] if text.startswith("-") and not any(c in "123456789" for c in text) else text
+
+
+def _sig_decimals(v: float, digits: int) -> int | None:
+    """The decimals that show ``v`` with ``digits`` significant figures (None: too small, shown with an exponent)."""
+    a = abs(v)
+    if a >= 10 ** (digits - 1):
+        return 0
+    if a < 1e-4:
+        return None
+    return max(0, digits - 1 - int(np.floor(np.log10(a))))
+
+
+def _finite_float(x) -> bool:
+    return isinstance(x, float) and x == x and abs(x) != float("inf")
+
+
+def fmt_number(v, digits: int = 4, whole: bool = True) -> str:
+    """A number for people: ``digits`` significant figures, thousands separators, no exponent for large values;
+    None or NaN as an em-dash. A whole float prints as an integer when ``whole`` (a column all of whole numbers),
+    else with the decimals of its significant figures (70 -> "70.00" beside 70.56); ints (counts) always as ints.
+    Negative zero after rounding reads "0"."""
     if v is None:
         return "—"
     if isinstance(v, bool):
         return "yes" if v else "no"
-    if isinstance(v, int):
-        return f"{v:,}"
-    if isinstance(v, float):
+    if isinstance(v, (int, np.integer)):
+        return f"{int(v):,}"
+    if isinstance(v, (float, np.floating)):
+        v = float(v)
         if v != v:
             return "—"
-        if v == 0:
+        if v == 0 and whole:
             return "0"
-        a = abs(v)
-        if a >= 10 ** (digits - 1) or (v == int(v) and a < 1e15):    # whole numbers (counts) as integers
-            return f"{v:,.0f}"
-        if a < 1e-4:
+        if abs(v) == float("inf"):
+            return str(v)
+        if whole and v == int(v) and abs(v) < 1e15:
+            return fixed(v, 0)
+        d = digits - 1 if v == 0 else _sig_decimals(v, digits)
+        if d is None:
             return f"{v:.{digits - 1}e}"
-        decimals = max(0, digits - 1 - int(np.floor(np.log10(a))))
-        return f"{v:,.{decimals}f}"
+        return fixed(v, d)
     return str(v)
 
 
-def rich_table(title: str, columns: list[str], rows: list[list], caption: str | None = None) -> Table:
-    table = Table(title=escape(printable(title)), caption=caption and escape(printable(caption)),
+def shared_decimals(values, digits: int = 4) -> int | None:
+    """The decimals a group of figures of one quantity shares (a column, or a row of technologies): those of the
+    largest, raised so that none shows fewer than ``digits - 1`` significant figures; 0 when every figure is whole
+    (ints, counts); None when a figure is so small that it needs an exponent (each then keeps its own form).
+
+    Examples
+    --------
+    >>> shared_decimals([50.0, 58.333, 70.0, 87.5, 116.67]), shared_decimals([3.33, 10.58, 4.041])
+    (1, 2)
+    >>> shared_decimals([0.07264, 0.1285]), shared_decimals([3.0, 12]), shared_decimals([1e-6, 2.0])
+    (4, 0, None)
+    """
+    nums = [float(v) for v in values if _finite_float(v) or isinstance(v, (np.floating,))]
+    nums = [v for v in nums if v == v and abs(v) != float("inf") and v != int(v)]
+    if not nums:
+        return 0
+    ds = [_sig_decimals(v, digits) for v in nums]
+    if None in ds:
+        return None
+    return max(min(ds), max(ds) - 1)
+
+
+def fmt_group(values, digits: int = 4) -> list:
+    """The figures of one quantity with shared decimals (:func:`shared_decimals`); anything that is not a float
+    (text, ints, None) is left as it is for :func:`fmt_number`."""
+    d = shared_decimals(values, digits)
+    out = []
+    for v in values:
+        if isinstance(v, (float, np.floating)) and not isinstance(v, bool) and v == v and abs(v) != float("inf"):
+            out.append(fmt_number(float(v), digits, whole=False) if d is None else fixed(float(v), d))
+        else:
+            out.append(v)
+    return out
+
+
+@dataclass(frozen=True)
+class Layout:
+    """How a table's figures are laid out. ``share``: ``"column"`` (each column is one quantity: its figures
+    share decimals), ``"row"`` (each row after the first column is one quantity, technologies as columns) or
+    ``"mixed"`` (a column of different quantities: each figure its own significant figures, and a whole number
+    without decimals only when its whole column is whole). ``text``: columns of words (left-aligned, wrapped at
+    spaces); ``keys``: columns of scenario keys or names a reader copies (left-aligned, never wrapped). Other columns
+    hold figures (right-aligned). The first column is always text (or keys)."""
+
+    share: str = "column"
+    text: tuple = ()
+    keys: tuple = ()
+
+    def align(self, i: int) -> str:
+        return "left" if i == 0 or i in self.text or i in self.keys else "right"
+
+
+def _plain(x) -> bool:
+    return isinstance(x, (int, float, np.integer, np.floating)) and not isinstance(x, bool)
+
+
+def format_cells(rows: list[list], layout: Layout = Layout()) -> list[list]:
+    """Every number of ``rows`` as text by the ``layout``'s sharing rule; text (and rich Text) stays."""
+    rows = [list(r) for r in rows]
+    if not rows:
+        return rows
+    width = max(len(r) for r in rows)
+    if layout.share == "row":
+        rows = [r[:1] + fmt_group(r[1:]) for r in rows]
+    else:
+        for j in range(width):
+            col = [r[j] for r in rows if j < len(r)]
+            if layout.share == "column":
+                shown = fmt_group(col)
+            else:
+                whole = all(float(v) == int(v) for v in col if _plain(v) and np.isfinite(float(v)))
+                shown = [fmt_number(v, whole=whole) if _plain(v) else v for v in col]
+            it = iter(shown)
+            for r in rows:
+                if j < len(r):
+                    r[j] = next(it)
+    return [[x if isinstance(x, (str, Text)) else fmt_number(x) for x in r] for r in rows]
+
+
+class _WordTable(Table):
+    """A rich table whose columns of words are, where the width allows, at least as wide as their longest word: rich
+    narrows the widest columns evenly, which cuts a word in two in a column that one more character would keep
+    whole; the width is moved over from columns that have it to spare."""
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.words: dict[int, int] = {}
+
+    def _calculate_column_widths(self, console, options):
+        widths = super()._calculate_column_widths(console, options)
+        if not self.words:
+            return widths
+        need = [self.words.get(i, 0) + self._get_padding_width(i) if self.words.get(i) else 0
+                for i in range(len(widths))]
+        for i, n in enumerate(need):
+            while widths[i] < n:
+                spare = [j for j in range(len(widths)) if j != i and not self.columns[j].no_wrap
+                         and widths[j] > max(need[j], 4 + self._get_padding_width(j))]
+                if not spare:
+                    break
+                j = max(spare, key=lambda k: widths[k] - need[k])
+                widths[j] -= 1
+                widths[i] += 1
+        return widths
+
+
+def rich_table(title: str, columns: list[str], rows: list[list], caption: str | None = None,
+               layout: Layout = Layout()) -> Table:
+    table = _WordTable(title=escape(printable(title)), caption=caption and escape(printable(caption)),
                   title_justify="left", caption_justify="left")
-    cells = [[Text(printable(fmt_number(x))) if not isinstance(x, Text) else x for x in r] for r in rows]
-    # the first column holds keys and names a reader copies (into --set, say): on a narrow terminal it folds onto a
-    # second line rather than ending in an ellipsis
+    cells = [[Text(printable(x)) if not isinstance(x, Text) else x for x in r] for r in format_cells(rows, layout)]
+    # keys and names a reader copies (into --set, say) are never broken; text wraps at spaces (a word longer than
+    # its column folds rather than ending in an ellipsis); figures are right-aligned
     for i, c in enumerate(columns):
-        table.add_column(escape(printable(c)), justify="left" if i == 0 else "right",
-                         overflow="fold" if i == 0 else "ellipsis")
+        if i in layout.keys:
+            table.add_column(escape(printable(c)), justify="left", no_wrap=True)
+        else:
+            # a column of words is at least as wide as its longest word (up to 16), so a narrow terminal wraps it
+            # at spaces rather than cutting a word
+            words = [len(w) for r in cells if i < len(r) for w in r[i].plain.split()] if i in layout.text else []
+            table.words[i] = min(max(words, default=0), 16)
+            table.add_column(escape(printable(c)), justify=layout.align(i), overflow="fold")
     for r in cells:
         table.add_row(*r)
     return table
 
 
-def markdown_table(columns: list[str], rows: list[list]) -> str:
+def markdown_table(columns: list[str], rows: list[list], layout: Layout = Layout()) -> str:
     head = "| " + " | ".join(md(c) for c in columns) + " |"
-    sep = "|" + "|".join([" --- "] + [" ---: "] * (len(columns) - 1)) + "|"
-    body = ["| " + " | ".join(_md_cell(x) for x in r) + " |" for r in rows]
+    sep = "|" + "|".join(" --- " if layout.align(i) == "left" else " ---: " for i in range(len(columns))) + "|"
+    body = ["| " + " | ".join(md(str(x)) for x in r) + " |" for r in format_cells(rows, layout)]
     return "\n".join([head, sep, *body])
 
 
@@ -89,10 +251,10 @@ def print_tables(console: Console, tables: list[Table], warnings: list[str]) -> 
 
 def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]], warnings: list[str]) -> str:
     parts = [f"# {md(title)}", ""]
-    for heading, columns, rows in sections:
+    for heading, columns, rows, *layout in sections:
         if heading:
             parts += [f"## {md(heading)}", ""]
-        parts += [markdown_table(columns, rows), ""]
+        parts += [markdown_table(columns, rows, *layout), ""]
     if warnings:
         parts += ["## Warnings", ""] + [f"- {md(w)}" for w in warnings] + [""]
     parts += [f"> {CAUTION}", ""]
@@ -108,10 +270,10 @@ def _shown(f, v):
     return _pct(v) if f.fmt == "percent" else v
 
 
-def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
-    """(heading, columns, rows) per group of the side-by-side comparison (technologies as columns), then one section
-    of design figures per technology, in words with units. Infeasible technologies show a dash for every figure
-    that needs a working design, and their reasons."""
+def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list], Layout]]:
+    """(heading, columns, rows, layout) per group of the side-by-side comparison (technologies as columns), then
+    one section of design figures per technology, in words with units. Infeasible technologies show a dash for
+    every figure that needs a working design, and their reasons."""
     from ..present.fields import COST_LINES, COST_TOTALS, FLOOR_FIELDS, RECORD_FIELDS, design_note, detail_label, label
     from ..present.records import detail_table
     from .fields import record_name
@@ -124,7 +286,7 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
     for f in FLOOR_FIELDS:
         v = fl.get(f.name)
         floor_rows.append([label(f), f"{v:.6f}" if f.name == "water_activity" and v is not None else v])
-    sections = [("floor", ["feed", "value"], floor_rows)]
+    sections = [("floor", ["feed", "value"], floor_rows, Layout("mixed"))]
     if not recs:
         return sections
     groups: dict[str, list[list]] = {"energy": [["feasible"] + ["yes" if r["feasible"] else "NO" for r in recs]]}
@@ -143,9 +305,9 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
     if any(scaled):
         groups["scaling"] = scaling_rows(scaled)
     for g, rows in groups.items():
-        sections.append((g, [g] + techs, rows))
+        sections.append((g, [g] + techs, rows, Layout("row")))
     if reasons:
-        sections.append(("why infeasible", ["technology", "reason"], reasons))
+        sections.append(("why infeasible", ["technology", "reason"], reasons, Layout("mixed", text=(1,))))
     periods = payload.get("periods", 1)
     note = design_note(periods)
     for r in recs:
@@ -157,7 +319,7 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list]]]:
                 rows.append([detail_label(d, periods), r["details"][name]])
         if rows:
             sections.append((f"{r['technology']}: design figures" + (f" ({note})" if note else ""),
-                             ["figure", "value"], rows))
+                             ["figure", "value"], rows, Layout("mixed")))
     return sections
 
 
@@ -200,11 +362,19 @@ def scaling_rows(scaled: list) -> list[list]:
 
     rows = [["limiting mineral"] + [get(sc, "limiting_mineral") or ("none in the table" if sc else None)
                                     for sc in scaled]]
+    def against_limit(pairs):
+        """"figure (limit)" per technology, the figures and limits of the row sharing their decimals."""
+        shown = iter(fmt_group([float(x) if x is not None else None for p in pairs if p for x in p], 3))
+        out = []
+        for p in pairs:
+            out.append(None if p is None else f"{fmt_number(next(shown))} ({fmt_number(next(shown))})")
+        return out
+
     for f in SCALING_FIELDS:
         if f.name == "silica_mg_per_l":
-            rows.append([f"{unit_label(f.label, f.unit)} (limit)"] + [
-                None if sc is None or sc[f.name] is None else
-                f"{fmt_number(sc[f.name], 3)} ({fmt_number(sc['limits'].get('silica'), 3)})" for sc in scaled])
+            rows.append([f"{unit_label(f.label, f.unit)} (limit)"] + against_limit([
+                None if sc is None or sc[f.name] is None else (sc[f.name], sc["limits"].get("silica"))
+                for sc in scaled]))
             continue
         rows.append([unit_label(f.label, f.unit, fmt=f.fmt)] + [_shown(f, get(sc, f.name)) for sc in scaled])
     rows.append(["recovery above the limit"] + [None if sc is None else ("YES" if sc["above_limit"] else "no")
@@ -213,28 +383,27 @@ def scaling_rows(scaled: list) -> list[list]:
     for m in minerals:
         if m == "silica":
             continue
-        rows.append([f"saturation index, {m.lower()} (limit)"] +
-                    [None if sc is None else f"{fmt_number(sc['saturation_index'].get(m), 3)} "
-                     f"({fmt_number(sc['limits'][m], 3)})" for sc in scaled])
+        rows.append([f"saturation index, {m.lower()} (limit)"] + against_limit(
+            [None if sc is None else (sc["saturation_index"].get(m), sc["limits"][m]) for sc in scaled]))
     return rows
 
 
 def print_compare(console: Console, payload: dict) -> None:
     title = f"{payload['scenario']}"
     tables = []
-    for heading, columns, rows in compare_sections(payload):
+    for heading, columns, rows, layout in compare_sections(payload):
         if heading == "floor":
-            tables.append(rich_table(title, columns, rows))
+            tables.append(rich_table(title, columns, rows, layout=layout))
         elif columns[0] in ("figure", "technology"):
-            tables.append(rich_table(heading, columns, rows))
+            tables.append(rich_table(heading, columns, rows, layout=layout))
         else:
-            tables.append(rich_table("", columns, rows))
+            tables.append(rich_table("", columns, rows, layout=layout))
     print_tables(console, tables, payload["warnings"])
 
 
 def markdown_compare(payload: dict) -> str:
-    return markdown_report(payload["scenario"], [(h[:1].upper() + h[1:], c, r)
-                                                 for h, c, r in compare_sections(payload)], payload["warnings"])
+    return markdown_report(payload["scenario"], [(h[:1].upper() + h[1:], c, r, lay)
+                                                 for h, c, r, lay in compare_sections(payload)], payload["warnings"])
 
 
 # ------------------------------------------------------------------------------------------------ sweeps
@@ -243,25 +412,48 @@ SWEEP_METRICS = {"work_equivalent_kwh_per_m3": "work equivalent", "electricity_k
                  "second_law_efficiency": "second-law efficiency"}
 
 
-def _figure(row: dict, v) -> str:
-    """A summary figure as the compare table shows it: a dimensionless efficiency as a percentage."""
-    if row.get("unit") in ("-", "") and row.get("metric") == "second_law_efficiency" and v is not None:
-        return f"{100 * v:.1f} %"
-    return fmt_number(v)
+def _is_percent(row: dict) -> bool:
+    return row.get("unit") in ("-", "") and row.get("metric") == "second_law_efficiency"
 
 
-def _band(row: dict) -> str:
+def _figure(row: dict, v, decimals: int | None = None) -> str:
+    """A summary figure as the compare table shows it: a dimensionless efficiency as a percentage; others with
+    the ``decimals`` their row shares (None: its own significant figures)."""
+    if v is None:
+        return "—"
+    if _is_percent(row):
+        return f"{fixed(100 * v, 1)} %"
+    return fmt_number(v) if decimals is None else fixed(v, decimals)
+
+
+def _row_decimals(rows: list[dict], names: tuple) -> int | None:
+    """The decimals a row of summaries (one metric, technologies as columns) shares over the figures ``names``."""
+    return shared_decimals([float(r[n]) for r in rows if r.get("n") for n in names if r.get(n) is not None])
+
+
+def _band(row: dict, decimals: int | None = None) -> str:
     if not row["n"]:
         return "-"
-    return f"{_figure(row, row['p50'])} ({_figure(row, row['p10'])}-{_figure(row, row['p90'])})"
+    f = lambda v: _figure(row, v, decimals)  # noqa: E731
+    return f"{f(row['p50'])} ({f(row['p10'])}-{f(row['p90'])})"
 
 
-def _range(row: dict) -> str:
+def _range(row: dict, decimals: int | None = None) -> str:
     if not row["n"]:
         return "-"
     if row["min"] == row["max"]:
-        return _figure(row, row["min"])
-    return f"{_figure(row, row['min'])} to {_figure(row, row['max'])}"
+        return _figure(row, row["min"], decimals)
+    return f"{_figure(row, row['min'], decimals)} to {_figure(row, row['max'], decimals)}"
+
+
+def with_unit(text: str, unit: str | None) -> str:
+    """``text`` followed by its unit; nothing for no unit or a dimensionless one ("-", "", "1")."""
+    return text if unit in (None, "", "-", "1", "count") else f"{text} {unit}"
+
+
+def bracket_unit(text: str, unit: str | None) -> str:
+    """``text [unit]``; no brackets for no unit or a dimensionless one."""
+    return text if unit in (None, "", "-", "1", "count") else f"{text} [{unit}]"
 
 
 #: grid points shown in the terminal table; a wider grid is in grid.csv of the run folder
@@ -272,34 +464,41 @@ def _key_unit(body: dict) -> dict:
     return {g["key"]: g["unit"] for g in body.get("grid", [])}
 
 
-def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
-    """The sweep summary as (heading, columns, rows) sections. Samples: p50 (p10-p90) per technology and metric,
-    the share of samples each ranks first with its 95 % interval, and whether the leaders are told apart. Grids:
-    the range across the grid, a row per grid point (up to 30) and the break-even points with their units."""
+def sweep_sections(body: dict) -> list[tuple]:
+    """The sweep summary as (heading, columns, rows, layout) sections. Samples: p50 (p10-p90) per technology and
+    metric, the share of samples each ranks first with its 95 % interval, and whether the leaders are told apart.
+    Grids: the range across the grid, a row per grid point (up to 30) and the break-even points with their units.
+    The figures of one metric share their decimals; a dimensionless key shows no unit."""
     techs = list(dict.fromkeys(r["technology"] for r in body["summary"] if r["technology"] != "floor"))
     by = {(r["technology"], r["metric"]): r for r in body["summary"]}
     grid = body["mode"] == "grid"
     cell = _range if grid else _band
+    names = ("min", "max") if grid else ("p10", "p50", "p90")
     rows = [["feasible share"] + [share_pct(by[(t, 'electricity_kwh_per_m3')]['feasible_share']) for t in techs]]
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
         unit = "%" if m == "second_law_efficiency" and unit in ("-", "") else unit
-        rows.append([f"{label} [{unit}]"] + [cell(by[(t, m)]) for t in techs])
+        d = _row_decimals([by[(t, m)] for t in techs], names)
+        rows.append([f"{label} [{unit}]"] + [cell(by[(t, m)], d) for t in techs])
     if not grid and techs:
+        cost_rows = [by[(t, "levelized_cost_per_m3")] for t in techs]
+        d = shared_decimals([float(x) for r in cost_rows for x in ((r.get("ci") or {}).get("p50") or [])
+                             if x is not None])
+
         def p50_ci(row):
             ci = (row.get("ci") or {}).get("p50")
             if not ci:
                 return "-"
-            return f"{fmt_number(ci[0]) if ci[0] is not None else '?'} to {fmt_number(ci[1]) if ci[1] is not None else '?'}"
+            return " to ".join("?" if x is None else fmt_number(x) if d is None else fixed(x, d) for x in ci)
         unit = by[(techs[0], "levelized_cost_per_m3")]["unit"]
-        rows.append([f"levelized cost p50, its 95 % interval [{unit}]"]
-                    + [p50_ci(by[(t, "levelized_cost_per_m3")]) for t in techs])
+        rows.append([f"levelized cost p50, its 95 % interval [{unit}]"] + [p50_ci(r) for r in cost_rows])
     fl = by.get(("floor", "least_work_kwh_per_m3_zero_recovery"))
     if fl:
-        rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl)] * len(techs))
+        rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl, _row_decimals([fl], names))] * len(techs))
     what = ("lowest to highest across the grid points (feasible ones)" if grid
             else "p50 (p10-p90) over feasible samples")
-    out = [(f"{body['scenario']}: {body['cases']} cases ({body['mode']}); {what}", ["metric"] + techs, rows)]
+    out = [(f"{body['scenario']}: {body['cases']} cases ({body['mode']}); {what}", ["metric"] + techs, rows,
+            Layout("row"))]
     share_cols = techs + ["none feasible"]
     if grid:
         out.append(("share of grid points ranked first", ["criterion"] + share_cols,
@@ -312,34 +511,38 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
         out.append(("share of samples ranked first (95 % interval)", ["criterion"] + share_cols,
                     [[r["criterion"]] + [share(r, t) for t in share_cols] for r in body["ranking"]]))
         out.append(("how sure the ranking is", ["criterion", "statement"],
-                    [[r["criterion"], r["separation"]["statement"]] for r in body["ranking"] if "separation" in r]))
+                    [[r["criterion"], r["separation"]["statement"]] for r in body["ranking"] if "separation" in r],
+                    Layout(text=(1,))))
     if grid:
         units = _key_unit(body)
         points = body.get("grid_points") or []
         keys = [g["key"] for g in body["grid"]]
         cost_unit = by[(techs[0], "levelized_cost_per_m3")]["unit"] if techs else ""
         if points and len(points) <= GRID_ROWS:
-            cols = [f"{k} [{units[k]}]" for k in keys] + [f"{t} cost [{cost_unit}]" for t in techs] + \
+            cols = [bracket_unit(k, units[k]) for k in keys] + [f"{t} cost [{cost_unit}]" for t in techs] + \
                 ["first on cost", "first on energy"]
-            rows = [[fmt_number(p[k]) for k in keys] + [fmt_number(p[f"{t}.levelized_cost_per_m3"]) for t in techs]
+            rows = [[p[k] for k in keys] + [p[f"{t}.levelized_cost_per_m3"] for t in techs]
                     + [p["first_on_cost"] or "none", p["first_on_energy"] or "none"] for p in points]
-            out.append(("each grid point", cols, rows))
+            n = len(keys) + len(techs)
+            out.append(("each grid point", cols, rows, Layout(text=(n, n + 1))))
         else:
             out.append(("each grid point", ["grid points", "where"],
                         [[f"{body['cases']:,}", "grid.csv in the run folder (one row per point; cases.csv has every "
-                                                "figure)"]]))
+                                                "figure)"]], Layout(text=(1,))))
         rows = []
         for r in body["ranking"]:
             for c in r.get("changes", []):
-                at = ", ".join(f"{k} = {fmt_number(v)} {units.get(k, '')}".rstrip() for k, v in c["at"].items())
-                where = (f"{fmt_number(c['value'])} {c['unit']}" if c["kind"] == "crossing"
-                         else f"between {fmt_number(c['between'][0])} and {fmt_number(c['between'][1])} {c['unit']} "
-                              "(feasibility)")
+                at = ", ".join(with_unit(f"{k} = {fmt_number(v)}", units.get(k)) for k, v in c["at"].items())
+                if c["kind"] == "crossing":
+                    where = with_unit(fmt_number(c["value"]), c["unit"])
+                else:
+                    lo, hi = fmt_group([float(x) for x in c["between"]])
+                    where = with_unit(f"between {lo} and {hi}", c["unit"]) + " (feasibility)"
                 rows.append([c["criterion"], f"{c['from'] or 'none'} -> {c['to'] or 'none'}",
                              f"{c['key']} = {where}", at or "-"])
         out.append(("where first place changes along the grid (break-even)", ["criterion", "change", "at",
                                                                                "other keys"],
-                    rows or [["-", "no change along the grid", "-", "-"]]))
+                    rows or [["-", "no change along the grid", "-", "-"]], Layout(text=(1, 2, 3))))
     if body.get("sensitivity"):
         out += sensitivity_sections(body["sensitivity"], body)
     return out
@@ -348,10 +551,10 @@ def sweep_sections(body: dict) -> list[tuple[str, list[str], list[list]]]:
 def _interval(row: dict, name: str) -> str:
     if row.get(name) is None:
         return "-"
-    return f"{row[name]:.2f} ({row[name + '_low']:.2f} to {row[name + '_high']:.2f})"
+    return f"{fixed(row[name], 2)} ({fixed(row[name + '_low'], 2)} to {fixed(row[name + '_high'], 2)})"
 
 
-def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], list[list]]]:
+def sensitivity_sections(sens: dict, body: dict) -> list[tuple]:
     """Sobol indices of the levelized cost per technology and key, and the key with the largest total index for
     every metric; or the tornado of the levelized cost (each key at its p10 and p90, the others at medians)."""
     cost_unit = next((r["unit"] for r in body["summary"] if r["metric"] == "levelized_cost_per_m3"), "")
@@ -360,7 +563,7 @@ def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], l
                 for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"]
         out = [(f"Sobol indices of the levelized cost, 95 % intervals ({sens['base_samples']} base samples, "
                 f"{sens['evaluations']} evaluations)", ["technology", "key", "first order", "total", "rows used"],
-                rows)]
+                rows, Layout(keys=(1,)))]
         top = []
         for (t, m) in dict.fromkeys((r["technology"], r["metric"]) for r in sens["rows"]):
             rs = [r for r in sens["rows"] if r["technology"] == t and r["metric"] == m and r["total"] is not None]
@@ -369,7 +572,8 @@ def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], l
                 top.append([t, {**SWEEP_METRICS, "feasible": "feasibility"}.get(m, m), best["key"], _interval(best, "total")])
             else:
                 top.append([t, {**SWEEP_METRICS, "feasible": "feasibility"}.get(m, m), "-", "no variation (or too few feasible rows)"])
-        out.append(("the key with the largest total Sobol index", ["technology", "metric", "key", "total index"], top))
+        out.append(("the key with the largest total Sobol index", ["technology", "metric", "key", "total index"], top,
+                    Layout(text=(1,), keys=(2,))))
         return out
     rows = []
     order = list(dict.fromkeys(r["technology"] for r in sens["rows"]))
@@ -378,16 +582,16 @@ def sensitivity_sections(sens: dict, body: dict) -> list[tuple[str, list[str], l
         swing = None if r["at_low"] is None or r["at_high"] is None else r["at_high"] - r["at_low"]
         if swing == 0:
             continue                # a key with no effect on this technology
-        rows.append([r["technology"], f"{r['key']} {fmt_number(r['low'])} to {fmt_number(r['high'])} "
-                     f"{'' if r['unit'] == '-' else r['unit']}".rstrip(),
-                     fmt_number(r["at_low"]), fmt_number(r["at_high"]), fmt_number(swing)])
+        lo, hi = fmt_group([r["low"], r["high"]])
+        rows.append([r["technology"], with_unit(f"{r['key']} {lo} to {hi}", r["unit"]),
+                     r["at_low"], r["at_high"], swing])
     return [(f"tornado: levelized cost [{cost_unit}] with each key at its p10 and p90, the others at their medians "
              "(keys with no effect left out)",
-             ["technology", "key (p10 to p90)", "cost at p10", "cost at p90", "swing"], rows)]
+             ["technology", "key (p10 to p90)", "cost at p10", "cost at p90", "swing"], rows, Layout(text=(1,)))]
 
 
 def sweep_tables(console: Console, body: dict) -> None:
-    tables = [rich_table(h, c, r) for h, c, r in sweep_sections(body)]
+    tables = [rich_table(h, c, r, None, *lay) for h, c, r, *lay in sweep_sections(body)]
     print_tables(console, tables, body.get("warnings", []))
 
 
