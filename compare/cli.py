@@ -470,7 +470,10 @@ def cmd_check(args) -> int:
     _emit(args.format, payload[0] if len(payload) == 1 else payload,
           table=lambda: print_tables(_console(), tables, []),
           markdown=lambda: markdown_report("Resolved scenarios", sections, []),
-          csv_rows=lambda: [dict(scenario=p["scenario"], key=k, **v) for p in payload for k, v in p["inputs"].items()])
+          csv_rows=lambda: [dict(scenario=p["scenario"], key=k,
+                                 value=_show_value(v["value"]) if isinstance(v["value"], bool) else v["value"],
+                                 source=v["source"])
+                            for p in payload for k, v in p["inputs"].items()])
     return 0
 
 

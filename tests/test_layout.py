@@ -126,9 +126,9 @@ def test_markdown_aligns_text_left_and_figures_right():
 
 
 # ------------------------------------------------------------------------------------------------ units, zeros
-def test_break_even_on_a_unitless_key_has_no_stray_dash(capsys):
-    assert main(["sweep", GULL, "--vary", "ro.recovery=0.4:0.7:7", "--no-save", "--quiet", "--format",
-                 "markdown"]) == 0
+def test_break_even_on_a_unitless_key_has_no_stray_dash(capsys, tmp_path, monkeypatch):
+    assert main(["sweep", GULL, "--vary", "ro.recovery=0.4:0.7:7", "--out", str(tmp_path / "sweep"), "--quiet",
+                 "--format", "markdown"]) == 0
     out = capsys.readouterr().out
     rows = markdown_rows(out, "criterion | change")
     ats = [r[2] for r in rows]
@@ -137,6 +137,12 @@ def test_break_even_on_a_unitless_key_has_no_stray_dash(capsys):
         assert " - (" not in a and not a.rstrip().endswith(" -"), a
         assert re.search(r"between 0\.\d{4} and 0\.\d{4} \(feasibility\)", a), a
     assert "| ro.recovery |" in out                                  # the grid column heading without "[-]"
+    monkeypatch.setattr(browser, "find", lambda: None)
+    assert main(["report", GULL, "--sweep", str(next((tmp_path / "sweep").iterdir())), "--out",
+                 str(tmp_path / "report")]) == 0
+    html = next((tmp_path / "report").iterdir()).joinpath("report.html").read_text(encoding="utf-8")
+    assert re.search(r"between grid values of ro\.recovery, 0\.\d{4} and 0\.\d{4} \(feasibility", html)
+    assert "ro.recovery [-]" not in html and "ro.recovery [" not in html
     assert T.with_unit("x = 0.5", "-") == "x = 0.5" and T.with_unit("x = 5", "bar") == "x = 5 bar"
 
 
@@ -163,6 +169,9 @@ def test_scenario_values_read_as_toml_writes_them(tmp_path, capsys, monkeypatch)
     assert main(["check", GULL, "--format", "markdown"]) == 0
     md = capsys.readouterr().out
     assert "| fo.enabled | true |" in md and "True" not in md
+    assert main(["check", GULL, "--format", "csv"]) == 0
+    csv = capsys.readouterr().out
+    assert ",fo.enabled,true," in csv and "True" not in csv
     monkeypatch.setattr(browser, "find", lambda: None)
     assert main(["report", GULL, "--out", str(tmp_path)]) == 0
     html = next(tmp_path.iterdir()).joinpath("report.html").read_text(encoding="utf-8")

@@ -18,7 +18,8 @@ from pathlib import Path
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
 from .fields import COST_LINES, design_note
-from .tables import as_written, bracket_unit, build_up_rows, fixed, fmt_number, shared_decimals, with_unit
+from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, shared_decimals,
+                     with_unit)
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -280,7 +281,8 @@ def sweep_figures(sweep: dict) -> list[dict]:
             svg = line_chart(x, series, xlabel=bracket_unit(axis["key"], axis["unit"]), ylabel=ylabel,
                              label=title, vlines=vlines, hline=hline, cls=f"sweep-{criterion}")
             note = ("First place changes where the dotted lines are (break-even). " if vlines else
-                    "First place does not change along this grid. ")
+                    "First place changes where a technology stops or starts being feasible (listed below). "
+                    if changes else "First place does not change along this grid. ")
             if held:
                 note += "Other varied keys held at: " + "; ".join(held) + "."
             figures.append({"title": title, "svg": svg, "note": note})
@@ -323,6 +325,9 @@ def sweep_context(sweep: dict) -> dict:
                      and c.get("value") is not None else "")
             at = ", ".join(with_unit(f"{k} = {fmt_number(v)}", c.get("units", {}).get(k) or _axis_unit(s, k))
                            for k, v in (c.get("at") or {}).items())
+            if c.get("kind") != "crossing" and len(c.get("between") or []) == 2:
+                lo, hi = fmt_group([float(x) for x in c["between"]])
+                where = with_unit(f"{lo} and {hi}", c.get("unit"))
             changes.append({**c, "where": where, "at": at})
     flags = [dict(f) for f in s.get("flags") or []]
     if not flags:
