@@ -85,6 +85,25 @@ def test_compare_rows_share_decimals(compare_markdown, section):
         assert shares_decimals(r[1:]), r
 
 
+def test_the_cost_of_water_and_its_parts_share_decimals(compare_markdown, tmp_path, monkeypatch):
+    # the parts of the levelized cost are read against the total: one block of decimals, in the terminal's
+    # Markdown and in the report
+    rows = markdown_rows(compare_markdown, "cost")
+    start = next(i for i, r in enumerate(rows) if r[0].startswith("levelized cost of water"))
+    end = next(i for i, r in enumerate(rows) if r[0].startswith("total capital"))
+    block = rows[start:end]
+    assert len(block) >= 8                                      # the total and its causes
+    assert shares_decimals([c for r in block for c in r[1:]]), block
+    monkeypatch.setattr(browser, "find", lambda: None)
+    assert main(["report", GULL, "--out", str(tmp_path)]) == 0
+    html = next(tmp_path.iterdir()).joinpath("report.html").read_text(encoding="utf-8")
+    cells = []
+    for row in re.findall(r"<tr[^>]*>(.*?)</tr>", html, flags=re.S):
+        if "levelized cost of water" in row or "of which" in row:
+            cells += re.findall(r'<td class="num">([^<]*)</td>', row)
+    assert len(cells) >= 24 and shares_decimals(cells), cells
+
+
 def test_compare_design_figures_show_no_bare_integer_beside_decimals(compare_markdown):
     rows = markdown_rows(compare_markdown, "figure")           # the first technology's design figures (RO)
     values = [r[1] for r in rows]

@@ -467,7 +467,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
     recs = payload["results"]
     currency = recs[0]["currency"] if recs else inputs.get("finance.currency", {}).get("value", "")
     columns = [r["technology"].upper() for r in recs]
-    table, group = [], None
+    table, group, cost_block = [], None, []
     for grp, label, unit, field, digits in FIELDS:
         values = [_get(r, field) for r in recs]
         if all(v is None or v == 0 for v in values) and unit in ("kWh_th/m3", "degC", "MW_th", "GWh_th/yr"):
@@ -475,7 +475,13 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         table.append({"group": grp if grp != group else "", "label": label,
                       "unit": unit.format(currency=currency),
                       "values": fmt_row(values, digits + 1)})
+        if field == "levelized_cost_per_m3" or label.startswith("of which "):
+            cost_block.append((table[-1], values))
         group = grp
+    # the cost of water and its parts share their decimals, so that the parts visibly add up to it
+    shown = iter(fmt_row([v for _, values in cost_block for v in values], 3))
+    for row, values in cost_block:
+        row["values"] = [next(shown) for _ in values]
     table.insert(0, {"group": "", "label": "feasible", "unit": "",
                      "values": ["yes" if r["feasible"] else "NO" for r in recs]})
     designs = [{"name": r["technology"].upper(), "items": design_items(r, payload.get("periods", 1))} for r in recs]

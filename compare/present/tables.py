@@ -293,9 +293,14 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list], La
     for f in RECORD_FIELDS:
         groups.setdefault(f.group, []).append([label(f, cur)] + [_shown(f, r[f.name]) for r in recs])
         if f.name == "levelized_cost_per_m3":
-            for line in COST_LINES:
-                groups["cost"].append([f"  {line.label}"] + [r["details"]["cost_breakdown_per_m3"][line.name]
-                                                            for r in recs])
+            lines = [[f"  {line.label}"] + [r["details"]["cost_breakdown_per_m3"][line.name] for r in recs]
+                     for line in COST_LINES]
+            # the cost of water and its parts share their decimals, so that the parts visibly add up to it
+            block = [groups["cost"][-1]] + lines
+            shown = iter(fmt_group([v for row in block for v in row[1:]], digits=3))
+            for row in block:
+                row[1:] = [next(shown) for _ in row[1:]]
+            groups["cost"].extend(lines)
             for total in COST_TOTALS:
                 groups["cost"].append([label(total, cur)] + [r["details"].get(total.name) for r in recs])
     groups.update(build_up_sections(recs, cur))
