@@ -527,7 +527,7 @@ def cmd_report(args) -> int:
     sweep = read_sweep(args.sweep) if args.sweep else None
     payload = json.loads(to_json(_payload(evaluate(scenario))))      # exactly what compare --format json prints
     judgements = [judge(args.scenario, c, args.set or []) for c in claims]
-    run = json.loads(to_json(run_record([scenario], ["desal", "report", *args.argv])))
+    run = json.loads(to_json(run_record([scenario], ["desal", *args.argv])))
     saved, notes = write_report(parent, scenario.name, payload, run, judgements, sweep,
                                 pdf=args.pdf)
     for line in notes:

@@ -111,7 +111,7 @@ def test_compare_design_figures_show_no_bare_integer_beside_decimals(compare_mar
     assert floats
     elements = next(r[1] for r in rows if r[0].startswith("elements"))
     assert NUMBER.match(elements) and "." not in elements                           # a count stays an integer
-    med = compare_markdown.split("## Med: design figures")[1]
+    med = compare_markdown.split("## MED: design figures")[1]
     med_rows = dict(markdown_rows(med, "figure"))
     assert med_rows["heating steam temperature [degC]"] == "70.00"                  # not "70" beside "66.00"
 
@@ -201,3 +201,31 @@ def test_scenario_values_read_as_toml_writes_them(tmp_path, capsys, monkeypatch)
         cells = re.findall(r'<td class="num">([^<]*)</td>', row)
         if len(cells) == 3:
             assert shares_decimals(cells), cells
+
+
+def test_build_ups_share_decimals_down_and_across(compare_markdown, tmp_path, monkeypatch):
+    # a build-up is one unit and the parts of one total: every figure of the O&M by cause shares its decimals
+    # (terminal's Markdown and the report alike), and the capital by item is whole currency
+    om = markdown_rows(compare_markdown, "operation and maintenance by cause [USD/m3]")
+    assert len(om) >= 8 and shares_decimals([c for r in om for c in r[1:]]), om
+    cap = markdown_rows(compare_markdown, "capital by item [USD]")
+    assert all("." not in c for r in cap for c in r[1:] if NUMBER.match(c)), cap
+    monkeypatch.setattr(browser, "find", lambda: None)
+    assert main(["report", GULL, "--out", str(tmp_path)]) == 0
+    html = next(tmp_path.iterdir()).joinpath("report.html").read_text(encoding="utf-8")
+    part = html.split("Operation and maintenance by cause")[1].split("</table>")[0]
+    cells = re.findall(r'<td class="num">([^<]*)</td>', part)
+    assert len([c for c in cells if NUMBER.match(c)]) >= 12 and shares_decimals(cells), cells
+
+
+def test_percentages_carry_their_unit_once(compare_markdown):
+    row = next(r for r in markdown_rows(compare_markdown, "energy") if r[0].startswith("second-law efficiency"))
+    assert row[0] == "second-law efficiency [%]" and all(NUMBER.match(c) for c in row[1:]), row
+
+
+def test_report_records_the_command_as_given(tmp_path, monkeypatch):
+    # the run record's command runs again as it stands (it read "desal report report ..." before)
+    monkeypatch.setattr(browser, "find", lambda: None)
+    assert main(["report", GULL, "--out", str(tmp_path)]) == 0
+    run = json.loads(next(tmp_path.iterdir()).joinpath("run.json").read_text(encoding="utf-8"))
+    assert run["command"] == ["desal", "report", GULL, "--out", str(tmp_path)]

@@ -62,7 +62,7 @@ def test_table_layout_regression(toy, tmp_path, capsys):
     headings = [line for line in out.splitlines() if line.startswith("## ")]
     assert headings == ["## Floor", "## Energy", "## Site totals", "## Emissions", "## Cost",
                         "## Capital by item [USD]", "## Operation and maintenance by cause [USD/m3]",
-                        "## Toy: design figures"]
+                        "## TOY: design figures"]
     assert "| electricity [kWh/m3] |" in out and "| levelized cost of water [USD/m3] |" in out
     assert "| toy figure [bar] |" in out
     assert "Screening estimate only" in out

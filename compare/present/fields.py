@@ -171,12 +171,13 @@ def unit_label(text: str, unit: str, currency: str = "", fmt: str = "") -> str:
 
 #: words a design figure's label gains in a run with several periods (months) when it is not their weighted mean
 #: (:attr:`compare.tech.base.Detail.over_periods`)
-PERIOD_WORDS = {"max": "largest month", "min": "smallest month"}
+PERIOD_WORDS = {"max": "highest monthly value", "min": "lowest monthly value"}
 
 
 def detail_label(d, periods: int = 1) -> str:
     """A technology's design figure (:class:`~compare.tech.base.Detail`) in words with its unit. In a run over
-    several periods a figure taken at its largest or smallest month says so, ``membrane area (largest month) [m2]``;
+    several periods a figure taken at its highest or lowest month says so, ``membrane area (highest monthly value)
+    [m2]``;
     the others are production-weighted means (:func:`design_note`)."""
     text = d.label
     if periods > 1 and d.over_periods in PERIOD_WORDS:
@@ -188,7 +189,7 @@ def design_note(periods: int = 1) -> str:
     """What the design figures of a run over several periods are, for their heading ("" for one period)."""
     if periods <= 1:
         return ""
-    return f"production-weighted means over the {periods} months unless marked largest or smallest month"
+    return f"production-weighted means over the {periods} months unless marked highest or lowest monthly value"
 
 
 def value(x, unit: str):

@@ -18,8 +18,8 @@ from pathlib import Path
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
 from .fields import COST_LINES, design_note
-from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, shared_decimals,
-                     with_unit)
+from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, share_block,
+                     shared_decimals, with_unit)
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -124,16 +124,18 @@ def cost_build_up(recs: list[dict]) -> list[dict]:
     from ..costing import CAPITAL_ITEMS, OM_ITEMS
     currency = recs[0]["currency"] if recs else ""
     out = []
-    for key, items, title, unit, digits in (
-            ("capital_breakdown", CAPITAL_ITEMS, "Capital by item", currency, 4),
+    for key, items, title, unit in (
+            ("capital_breakdown", CAPITAL_ITEMS, "Capital by item", currency),
             ("om_breakdown_per_m3", OM_ITEMS, "Operation and maintenance by cause, per m3 of product",
-             f"{currency}/m3", 3)):
+             f"{currency}/m3")):
         rows = build_up_rows(recs, key, items)
         if rows:
+            # one unit, parts of one total: the figures share their decimals down and across, as in the terminal
+            shown = share_block([[row[0]] + [None if v == "" else v for v in row[1:]] for row in rows])
             out.append({"title": title, "unit": unit,
                         "rows": [{"label": row[0].strip().rstrip(":"), "cause": not row[0].startswith(" "),
-                                  "values": ["" if v == "" else x for v, x in zip(row[1:], fmt_row(row[1:], digits))]}
-                                 for row in rows]})
+                                  "values": ["" if v == "" else _dash(x) for v, x in zip(row[1:], s[1:])]}
+                                 for row, s in zip(rows, shown)]})
     return out
 
 
@@ -153,6 +155,11 @@ def fmt(v, digits: int = 4, whole: bool = True) -> str:
     if abs(v) >= 1e4:
         return fixed(v, 0)
     return fmt_number(v, digits, whole=whole)
+
+
+def _dash(x) -> str:
+    """A cell already formatted (text) as it is; a number as :func:`fmt` shows it; nothing as a dash."""
+    return x if isinstance(x, str) else fmt(x)
 
 
 def fmt_row(values, digits: int = 4) -> list[str]:
@@ -375,7 +382,7 @@ def cost_figure(payload: dict) -> str:
 def design_items(rec: dict, periods: int = 1) -> list[tuple[str, str]]:
     """A record's design figures as (label [unit], value): those its technology describes (the presenters' field
     table), in its order, then any other figure under its record name; figures left out (null) are skipped. Over
-    several periods, a figure taken at its largest or smallest month says so in its label."""
+    several periods, a figure taken at its highest or lowest monthly value says so in its label."""
     from .fields import SITE_DETAILS, detail_label, record_name, unit_label
     from .records import detail_table
 

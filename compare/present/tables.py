@@ -263,7 +263,8 @@ def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]
 
 # ------------------------------------------------------------------------------------------------ side by side
 def _pct(v):
-    return None if v is None else f"{100 * v:.1f} %"
+    """A fraction as a percentage figure (the row's label carries the unit, [%])."""
+    return None if v is None else fixed(100 * v, 1)
 
 
 def _shown(f, v):
@@ -296,11 +297,7 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list], La
             lines = [[f"  {line.label}"] + [r["details"]["cost_breakdown_per_m3"][line.name] for r in recs]
                      for line in COST_LINES]
             # the cost of water and its parts share their decimals, so that the parts visibly add up to it
-            block = [groups["cost"][-1]] + lines
-            shown = iter(fmt_group([v for row in block for v in row[1:]], digits=3))
-            for row in block:
-                row[1:] = [next(shown) for _ in row[1:]]
-            groups["cost"].extend(lines)
+            groups["cost"][-1:] = share_block([groups["cost"][-1]] + lines)
             for total in COST_TOTALS:
                 groups["cost"].append([label(total, cur)] + [r["details"].get(total.name) for r in recs])
     groups.update(build_up_sections(recs, cur))
@@ -323,7 +320,7 @@ def compare_sections(payload: dict) -> list[tuple[str, list[str], list[list], La
             if name in r["details"] and r["details"][name] is not None:
                 rows.append([detail_label(d, periods), r["details"][name]])
         if rows:
-            sections.append((f"{r['technology']}: design figures" + (f" ({note})" if note else ""),
+            sections.append((f"{r['technology'].upper()}: design figures" + (f" ({note})" if note else ""),
                              ["figure", "value"], rows, Layout("mixed")))
     return sections
 
@@ -344,16 +341,24 @@ def build_up_rows(recs: list[dict], key: str, items: dict) -> list[list]:
     return rows
 
 
+def share_block(rows: list[list], digits: int = 3) -> list[list]:
+    """Rows of one quantity in one unit (a total and its parts, a build-up): every figure after the first column
+    with the decimals they all share (:func:`shared_decimals`), as text; other cells as they are."""
+    shown = iter(fmt_group([v for row in rows for v in row[1:]], digits))
+    return [row[:1] + [next(shown) for _ in row[1:]] for row in rows]
+
+
 def build_up_sections(recs: list[dict], currency: str) -> dict:
-    """The capital by item [currency] and the O&M by cause [currency/m3], as table groups."""
+    """The capital by item [currency] and the O&M by cause [currency/m3], as table groups; each shares its
+    decimals down and across (one unit, parts of one total)."""
     from ..costing import CAPITAL_ITEMS, OM_ITEMS
     out = {}
     cap = build_up_rows(recs, "capital_breakdown", CAPITAL_ITEMS)
     if cap:
-        out[f"capital by item [{currency}]"] = cap
+        out[f"capital by item [{currency}]"] = share_block(cap)
     om = build_up_rows(recs, "om_breakdown_per_m3", OM_ITEMS)
     if om:
-        out[f"operation and maintenance by cause [{currency}/m3]"] = om
+        out[f"operation and maintenance by cause [{currency}/m3]"] = share_block(om)
     return out
 
 

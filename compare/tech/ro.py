@@ -886,7 +886,7 @@ DETAILS = {
     "area_used_fraction": Detail("share of the area producing", "-", "min"),
     "ro_step": Detail("RO step electricity", "kWh/m3"),
     "high_pressure_pump": Detail("high-pressure pump", "kWh/m3"),
-    "booster": Detail("booster pumps", "kWh/m3"),
+    "booster": Detail("booster pumps (exchanger circulation and interstage)", "kWh/m3"),
     "other_electricity": Detail("other plant electricity (intake, treatment)", "kWh/m3"),
     **{f"stage_{s}_permeate_salinity": Detail(f"stage {s} permeate salinity", "g/kg") for s in (1, 2, 3)},
     **{f"stage_{s}_recovery": Detail(f"stage {s} recovery (share of the system feed)", "-") for s in (1, 2, 3)},
