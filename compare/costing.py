@@ -311,7 +311,8 @@ def fo_equipment(d: Design, site: SiteCosts):
     costed = np.zeros_like(Q)
     if d.has("regenerator_membrane_area"):
         area_r = d.peak(d.detail("regenerator_membrane_area"))
-        power = d.peak(np.asarray(d.detail("regenerator_ro_step")) * Q[:, None])
+        power = d.peak((np.asarray(d.detail("regenerator_high_pressure_pump"))
+                        + np.asarray(d.detail("regenerator_booster"))) * Q[:, None])
         r_reg = np.asarray(d.detail("regenerator_recovery"), dtype=float)
         brine = d.peak(Q[:, None] * (1.0 / r_reg - 1.0))
         cap_r, ann_r = _membrane_train(d, area_r, "regenerator", site.equipment_exponent, power, brine,

@@ -623,11 +623,16 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
         flags += [f.within("fo", "FO regenerator: ").with_mask(_flat_mask(f.mask, size) & reached)
                   for f in perf.flags]
         d = perf.details
+        # the regenerator's electricity in its parts (no subtotal: each figure is shown once, and with FO's own
+        # parts below they add up to FO's electricity)
         details.update({
             "regenerator_recovery": r_ro, "regenerator_feed_pressure": d["feed_pressure"].ravel(),
-            "regenerator_ro_step": d["ro_step"].ravel(), "regenerator_membrane_area": d["membrane_area"].ravel(),
-            "regenerator_electricity": perf.electricity.ravel(),
+            "regenerator_membrane_area": d["membrane_area"].ravel(),
+            "regenerator_high_pressure_pump": d["high_pressure_pump"].ravel(),
+            "regenerator_booster": d["booster"].ravel(),
         })
+        if np.any(d["other_electricity"] != 0):      # fo.regenerator.other_electricity, 0 unless given
+            details["regenerator_other_electricity"] = d["other_electricity"].ravel()
         makeup = np.maximum(ex["Js"] + r * product, 0.0)   # draw salt lost to the brine and the product [kg/s per kg/s]
     else:
         gor = b(reg.gain_output_ratio)
@@ -668,6 +673,7 @@ def evaluate(feed: Feed, p: FOParameters) -> Performance:
             "min_osmotic_margin": ex["margin"],
             "brine_wall_salinity": wall,
             "draw_makeup": makeup / r * rho,
+            "circulation_electricity": b(p.circulation_electricity), "other_electricity": b(p.other_electricity),
         })
     nan = ~reached | beyond
     flags = [f.with_mask(rs(f.mask).astype(bool)) for f in flags]
@@ -693,13 +699,24 @@ DETAILS = {
     "draw_makeup": Detail("draw salt make-up (draw salt lost to the brine and the product)", "kg/m3"),
     "regenerator_recovery": Detail("regenerator recovery", "-"),
     "regenerator_feed_pressure": Detail("regenerator feed pressure", "bar"),
-    "regenerator_ro_step": Detail("regenerator RO step electricity", "kWh/m3"),
     "regenerator_membrane_area": Detail("regenerator membrane area", "m2", "max"),
-    "regenerator_electricity": Detail("regenerator electricity", "kWh/m3"),
     "regenerator_gor": Detail("thermal regenerator gain output ratio", "-"),
     "regenerator_draw_bpe": Detail("draw boiling-point elevation in the regenerator", "K"),
-    "regenerator_heat": Detail("thermal regenerator heat", "kWh_th/m3"),
+    # FO's electricity in its parts (ELECTRICITY_PARTS), then its heat
+    "regenerator_high_pressure_pump": Detail("electricity: regenerator high-pressure pump", "kWh/m3"),
+    "regenerator_booster": Detail("electricity: regenerator booster pumps", "kWh/m3"),
+    "regenerator_other_electricity": Detail("electricity: regenerator other loads (fo.regenerator.other_electricity)",
+                                            "kWh/m3"),
+    "circulation_electricity": Detail("electricity: feed and draw circulation pumps (a thermal regenerator's pumps "
+                                      "included)", "kWh/m3"),
+    "other_electricity": Detail("electricity: other plant loads (intake, treatment)", "kWh/m3"),
+    "regenerator_heat": Detail("heat: thermal regenerator (latent heat over its gain output ratio)", "kWh_th/m3"),
 }
+
+
+#: the details that are FO's electricity, part by part: present ones add up to ``Performance.electricity``
+ELECTRICITY_PARTS = ("regenerator_high_pressure_pump", "regenerator_booster", "regenerator_other_electricity",
+                     "circulation_electricity", "other_electricity")
 
 
 FO = register(Technology(

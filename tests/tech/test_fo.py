@@ -423,3 +423,28 @@ def test_reverse_salt_flux_is_positive_and_adds_up_to_the_make_up():
     # the brine carries the feed's salt plus what the draw passed, per kg of feed
     passed = d["reverse_salt_flux"] * d["fo_membrane_area"] / (fd.capacity * rho / 0.35)
     assert 0.65 * perf.brine_salinity == pytest.approx(0.041 + passed, rel=1e-9)
+
+
+@pytest.mark.parametrize("kind, over", [
+    ("ro", {}), ("ro", {"regenerator.other_electricity": "0.15 kWh/m^3"}), ("thermal", {})])
+def test_details_break_the_electricity_and_heat_down_once(kind, over):
+    # consistency (identity of the breakdown): FO's electricity parts in its details add up to its electricity, the
+    # thermal regenerator's heat is all of its heat, and no figure is shown twice under two names
+    perf = fo.evaluate(feed([0.035, 0.045]), params(fo, regeneration=kind, **over))
+    assert perf.feasible.all()
+    d = perf.details
+    parts = [k for k in fo.ELECTRICITY_PARTS if k in d]
+    assert {"circulation_electricity", "other_electricity"} <= set(parts)
+    assert ("regenerator_high_pressure_pump" in parts) == (kind == "ro")
+    assert ("regenerator_other_electricity" in parts) == bool(over)
+    np.testing.assert_allclose(sum(d[k] for k in parts), perf.electricity, rtol=1e-9, atol=0)
+    if kind == "thermal":
+        np.testing.assert_allclose(d["regenerator_heat"], perf.heat, rtol=1e-12)
+    assert set(d) <= set(fo.DETAILS) and set(fo.ELECTRICITY_PARTS) <= set(fo.DETAILS)
+    labels = [fo.DETAILS[k].label for k in d]
+    assert len(set(labels)) == len(labels)
+    # (no two figures equal in SI: a figure under two names, as the regenerator's electricity once was)
+    keys = sorted(d)
+    same = [(a, b) for i, a in enumerate(keys) for b in keys[i + 1:]
+            if np.allclose(d[a], d[b], rtol=1e-12, atol=0)]
+    assert same == []
