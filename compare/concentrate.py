@@ -55,7 +55,7 @@ class Scaling:
     Attributes
     ----------
     saturation_index : mineral -> SI at the concentrate's worst state [-]
-    silica : SiO2 in the concentrate at its wall [kg/m^3]
+    silica : SiO2 in the concentrate at its wall [kg/m^3]; NaN where the feed gave no silica (not 0: unknown)
     concentration_factor : wall salinity over the feed composition's total [-]
     temperature : the temperature of the worst state for the limiting mineral [K]
     limits : mineral -> the limit used (SI, or kg/m^3 for silica)
@@ -64,6 +64,8 @@ class Scaling:
     max_recovery : the highest recovery under every limit [-]
     above : where the technology's recovery is above ``max_recovery``
     in_table : where the concentrate lies inside the table (else its figures are held at the table's edge)
+    not_given : the minerals with a limit that the feed's composition cannot form (silica not given, or a
+        mineral whose ions are not in it): not checked, and shown as not given rather than as 0
     """
 
     saturation_index: dict
@@ -76,6 +78,7 @@ class Scaling:
     max_recovery: np.ndarray
     above: np.ndarray
     in_table: np.ndarray
+    not_given: tuple = ()
 
     def limiting_mineral(self, i) -> str | None:
         """Name of the limiting mineral of flat case ``i`` (None where no limit is met inside the table)."""
@@ -105,7 +108,8 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
     cf = np.where(ok, S_b * beta / S_ref, 1.0)
     flat_limits = {m: Limit(lim.kind, b(lim.value)) for m, lim in limits.items()}
     si, worst_cf, worst_T, limiting, names = {}, None, None, None, ()
-    silica = np.zeros(cf.shape)
+    given = table.silica_fraction > 0
+    silica = np.zeros(cf.shape) if given else np.full(cf.shape, np.nan)    # no silica given: unknown, not 0
     in_table = np.ones(cf.shape, dtype=bool)
     for T in temperatures:
         Tf = b(T)
@@ -113,7 +117,8 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
         for m in table.minerals:
             v = table.saturation_index(m, cf, Tf)
             si[m] = v if m not in si else np.maximum(si[m], v)
-        silica = np.maximum(silica, table.silica(cf, Tf) if table.silica_fraction > 0 else 0.0)
+        if given:
+            silica = np.maximum(silica, table.silica(cf, Tf))
         cf_max, lim, names = table.max_concentration_factor(Tf, flat_limits)
         if worst_cf is None:
             worst_cf, worst_T, limiting = cf_max, Tf.copy(), lim
@@ -131,7 +136,8 @@ def scaling(table: ScalingTable, limits: dict[str, Limit], feed_salinity, brine_
     nan = lambda x: rs(np.where(ok, x, np.nan))  # noqa: E731
     return Scaling({m: nan(v) for m, v in si.items()}, nan(silica), nan(cf), rs(worst_T),
                    {m: rs(flat_limits[m].value) for m in names}, rs(np.where(ok, limiting, -1)),
-                   tuple(names), nan(r_max), rs(above), rs(in_table | ~ok))
+                   tuple(names), nan(r_max), rs(above), rs(in_table | ~ok),
+                   tuple(m for m in limits if m not in names))
 
 
 def site_flows(capacity, recovery, product_density, feed_density, brine_density, intake_per_product=None):
@@ -219,7 +225,7 @@ def per_case(sc: Scaling) -> Scaling:
                    {m: (pick(np.broadcast_to(v, sc.max_recovery.shape)) if np.ndim(v) else v)
                     for m, v in sc.limits.items()},
                    pick(sc.limiting), sc.names, pick(sc.max_recovery), np.asarray(sc.above).any(axis=1),
-                   np.asarray(sc.in_table).all(axis=1))
+                   np.asarray(sc.in_table).all(axis=1), sc.not_given)
 
 
 __all__ = ["Scaling", "Chemistry", "scaling", "assess", "per_case", "site_flows", "SILICA",

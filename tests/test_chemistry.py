@@ -199,3 +199,39 @@ def test_a_sweep_of_1000_cases_builds_one_phreeqc_table(capsys, tmp_path):
     assert rows["recovery"].to_numpy() == pytest.approx(rows["scaling_max_recovery"].to_numpy(), abs=1e-4)
     assert rows["recovery"].nunique() == 4
     assert scaling.RUNS["tables"] == before + 1
+
+
+_WELL = {"Na": "780 mg/L", "K": "18 mg/L", "Ca": "240 mg/L", "Mg": "95 mg/L", "Sr": "6 mg/L", "Ba": "0.08 mg/L",
+         "Cl": "1150 mg/L", "SO4": "900 mg/L", "HCO3": "290 mg/L", "SiO2": "28 mg/L", "pH": 7.6}
+
+
+@requires_phreeqc
+@pytest.mark.parametrize("given", [True, False])
+def test_silica_and_minerals_not_given_show_as_not_given_never_as_0(tmp_path, capsys, given):
+    # a feed without silica (or barium) has no silica figure: not 0, which reads as a measurement; a feed with it
+    # shows its figure against its limit (JSON, Markdown and the terminal)
+    ions = {k: v for k, v in _WELL.items() if given or k not in ("SiO2", "Ba")}
+    path = _write(tmp_path, "\n".join(f"{k} = {v!r}".replace("'", '"') for k, v in ions.items()))
+    args = ["compare", str(path), "--no-save", "--set", "ro.segments=8", "--set", "fo.enabled=false"]
+    assert main([*args, "--format", "json"]) == 0
+    for r in json.loads(capsys.readouterr().out)["results"]:
+        sc = r["details"]["scaling"]
+        if given:
+            assert sc["not_given"] == [] and sc["silica_mg_per_l"] > 28 and sc["limits"]["silica"] == 200.0
+        else:
+            assert set(sc["not_given"]) == {"silica", "Barite"} and sc["silica_mg_per_l"] is None
+            assert "silica" not in sc["limits"] and "Barite" not in sc["limits"]
+    assert main([*args, "--format", "markdown"]) == 0
+    md = capsys.readouterr().out
+    silica = next(line for line in md.splitlines() if line.startswith("| silica (SiO2)"))
+    if given:
+        assert "[mg/L] (limit)" in silica and "(200)" in silica and "not given" not in md
+    else:
+        assert silica.split(" | ")[1:] == ["—", "— |"] and "not given in the feed" in silica
+        assert any(line.startswith("| saturation index, barite: its ions not given in the feed") for line in
+                   md.splitlines())
+    assert main(args) == 0
+    term = " ".join(capsys.readouterr().out.split())
+    assert "0 (—)" not in term          # (the label wraps in the terminal: its start says which row it is)
+    assert ("silica (SiO2) in the concentrate [mg/L]" in term) is given
+    assert ("silica (SiO2) in the concentrate: not" in term) is not given

@@ -66,7 +66,8 @@ def record(result, t, i: int) -> dict:
 def scaling_record(sc, i: int) -> dict:
     """``details.scaling`` of case ``i``: the limiting mineral, the highest recovery, where the concentrate was
     judged, the limits used (SI; silica in mg/L), and the saturation index of every mineral PHREEQC knows for the
-    water, in that concentrate."""
+    water, in that concentrate; ``not_given`` lists the minerals with a limit that the feed cannot form (silica not
+    given, or a mineral whose ions are not in it), whose figures are null rather than 0."""
     from ..thermo.scaling import SILICA
 
     out = {"limiting_mineral": sc.limiting_mineral(i)}
@@ -76,6 +77,7 @@ def scaling_record(sc, i: int) -> dict:
                               "mg/L" if m == SILICA else "-") for m, v in sc.limits.items()}
     out["saturation_index"] = {m: value(np.asarray(v).reshape(-1)[i], "-")
                                for m, v in sorted(sc.saturation_index.items())}
+    out["not_given"] = list(sc.not_given)
     return out
 
 

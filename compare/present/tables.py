@@ -380,7 +380,13 @@ def scaling_rows(scaled: list) -> list[list]:
             out.append(None if p is None else f"{fmt_number(next(shown))} ({fmt_number(next(shown))})")
         return out
 
+    # a limited mineral the feed cannot form (silica not given, or its ions not in the feed): a dash under a heading
+    # that says so, never a 0 that would read as a measurement
+    not_given = next((sc.get("not_given") or [] for sc in scaled if sc), [])
     for f in SCALING_FIELDS:
+        if f.name == "silica_mg_per_l" and "silica" in not_given:
+            rows.append([f"{f.label}: not given in the feed, not checked"] + [None for _ in scaled])
+            continue
         if f.name == "silica_mg_per_l":
             rows.append([f"{unit_label(f.label, f.unit)} (limit)"] + against_limit([
                 None if sc is None or sc[f.name] is None else (sc[f.name], sc["limits"].get("silica"))
@@ -395,6 +401,10 @@ def scaling_rows(scaled: list) -> list[list]:
             continue
         rows.append([f"saturation index, {m.lower()} (limit)"] + against_limit(
             [None if sc is None else (sc["saturation_index"].get(m), sc["limits"][m]) for sc in scaled]))
+    for m in not_given:
+        if m != "silica":
+            rows.append([f"saturation index, {m.lower()}: its ions not given in the feed, not checked"]
+                        + [None for _ in scaled])
     return rows
 
 
