@@ -704,7 +704,8 @@ DETAILS = {
     "regenerator_draw_bpe": Detail("draw boiling-point elevation in the regenerator", "K"),
     # FO's electricity in its parts (ELECTRICITY_PARTS), then its heat
     "regenerator_high_pressure_pump": Detail("electricity: regenerator high-pressure pump", "kWh/m3"),
-    "regenerator_booster": Detail("electricity: regenerator booster pumps", "kWh/m3"),
+    "regenerator_booster": Detail("electricity: regenerator booster pumps (exchanger circulation and interstage)",
+                                  "kWh/m3"),
     "regenerator_other_electricity": Detail("electricity: regenerator other loads (fo.regenerator.other_electricity)",
                                             "kWh/m3"),
     "circulation_electricity": Detail("electricity: feed and draw circulation pumps (a thermal regenerator's pumps "
