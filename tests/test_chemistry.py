@@ -235,3 +235,22 @@ def test_silica_and_minerals_not_given_show_as_not_given_never_as_0(tmp_path, ca
     assert "0 (—)" not in term          # (the label wraps in the terminal: its start says which row it is)
     assert ("silica (SiO2) in the concentrate [mg/L]" in term) is given
     assert ("silica (SiO2) in the concentrate: not" in term) is not given
+
+
+@requires_phreeqc
+def test_report_shows_the_scaling_check_as_the_terminal_does(tmp_path, monkeypatch, capsys):
+    # the report carries the scaling block: the same limiting minerals, highest recoveries and figures against
+    # their limits as the comparison's JSON
+    from compare.present import browser
+    recs = _compare(capsys)
+    monkeypatch.setattr(browser, "find", lambda: None)
+    assert main(["report", SALTBUSH, "--out", str(tmp_path), "--set", "ro.segments=8"]) == 0
+    html = next(tmp_path.iterdir()).joinpath("report.html").read_text(encoding="utf-8")
+    assert 'id="scaling"' in html
+    part = html.split('id="scaling"')[1].split("</table>")[0]
+    scaled = [r["details"].get("scaling") for r in recs.values()]
+    assert sum(sc is not None for sc in scaled) >= 2          # the premise: RO and MED judged
+    for sc in filter(None, scaled):
+        assert sc["limiting_mineral"] in part
+        assert f"{100 * sc['max_recovery']:.1f}" in part
+    assert "saturation index, gypsum (limit)" in part and "(0.360)" in part

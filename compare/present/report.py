@@ -18,8 +18,8 @@ from pathlib import Path
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
 from .fields import COST_LINES, design_note
-from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, share_block,
-                     shared_decimals, with_unit)
+from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, scaling_rows,
+                     share_block, shared_decimals, with_unit)
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -137,6 +137,16 @@ def cost_build_up(recs: list[dict]) -> list[dict]:
                                   "values": ["" if v == "" else _dash(x) for v, x in zip(row[1:], s[1:])]}
                                  for row, s in zip(rows, shown)]})
     return out
+
+
+def scaling_table(recs: list[dict]) -> list[dict]:
+    """The scaling check of the concentrate as the terminal shows it (:func:`compare.present.tables.scaling_rows`):
+    rows of label and one cell per technology, or [] when the feed's ions are not known."""
+    scaled = [(r.get("details") or {}).get("scaling") for r in recs]
+    if not any(scaled):
+        return []
+    rows = scaling_rows(scaled)
+    return [{"label": row[0], "values": [_dash(v) for v in row[1:]]} for row in rows]
 
 
 def _get(r, field):
@@ -560,6 +570,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         "energy_svg": energy_figure(payload) if recs else "",
         "cost_svg": cost_figure(payload) if recs else "",
         "cost_tables": cost_build_up(recs),
+        "scaling": scaling_table(recs),
         "flag_groups": flag_groups,
         "claims": claims,
         "caution": CAUTION,
