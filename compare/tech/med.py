@@ -483,8 +483,8 @@ DETAILS = {
     "brine_pump_electricity": Detail("brine pumps", "kWh/m3"),
     "distillate_pump_electricity": Detail("distillate pumps", "kWh/m3"),
     "vacuum_electricity": Detail("vacuum system", "kWh/m3"),
-    "pump_electricity": Detail("pumps and vacuum system (the electricity unless med.electricity is given)",
-                               "kWh/m3"),
+    "pump_electricity": Detail("pumps and vacuum system, the sum of the lines above (the electricity unless "
+                               "med.electricity is given)", "kWh/m3"),
     "entrainment_ratio": Detail("ejector entrainment ratio (motive per entrained)", "-"),
     "entrained_vapour_per_product": Detail("entrained vapour per kg of product", "kg/kg"),
 }
