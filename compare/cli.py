@@ -305,7 +305,9 @@ def cmd_sweep(args) -> int:
         raise InputError("--cases parquet: expected the optional extra 'parquet' (pyarrow) installed, got none; "
                          "use --cases csv")
     executor = ex.make(args.workers, args.scheduler)
-    folder = None if args.no_save else RunFolder(args.parent, f"{scenario.name}-sweep")
+    # the folder's name says how the cases were made: grid, samples, lhs, sobol or tornado
+    how = "grid" if mode == "grid" else args.sensitivity or ("lhs" if args.lhs else "samples")
+    folder = None if args.no_save else RunFolder(args.parent, f"{scenario.name}-sweep-{how}")
     frames = [] if args.format == "csv" else None
     csv_file = None
     try:
@@ -338,8 +340,7 @@ def cmd_sweep(args) -> int:
                 csv_file.close()
             folder.write("summary.json", to_json(body))
             if mode == "grid":
-                import pandas as pd
-                folder.write("grid.csv", pd.DataFrame(sw.grid_points(result)).to_csv(index=False))
+                folder.write("grid.csv", sw.grid_frame(result).to_csv(index=False))
             folder.write("report.md", sweep_markdown(body))
             folder.write("run.json", to_json(run_record([scenario], ["desal", *args.argv])))
             if args.plot:

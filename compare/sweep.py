@@ -79,15 +79,46 @@ def _parse_one(spec: Spec, text: str, where: str, ctx: dict) -> float:
     return float(np.mean(v)) if spec.kind == "temperatures" else float(v)
 
 
+def tidy(v, digits: int = 12):
+    """Values rounded to ``digits`` significant figures, each the float nearest its decimal text, so that a grid
+    shows as it was given (0.05, not the 0.049999999999999996 that a unit conversion leaves). Vectorised: an
+    integer-valued float divided by an exact power of ten is correctly rounded.
+
+    Examples
+    --------
+    >>> [float(x) for x in tidy([0.049999999999999996, 0.07500000000000001, 0.0, -1.2e-20, 123456789012345.0])]
+    [0.05, 0.075, 0.0, -1.2e-20, 123456789012000.0]
+    """
+    v = np.asarray(v, dtype=float)
+    a = np.abs(v)
+    ok = np.isfinite(v) & (a > 0)
+    e = np.floor(np.log10(np.where(ok, a, 1.0))).astype(int)
+    d = digits - 1 - e                        # decimals to keep
+    out = v.copy()
+    up = ok & (d >= 0) & (d <= 22)            # 10**d exact as a float up to 10**22
+    p = 10.0 ** np.where(up, d, 0)
+    out[up] = np.round(v[up] * p[up]) / p[up]
+    down = ok & (d < 0)
+    q = 10.0 ** np.where(down, -d, 0)
+    out[down] = np.round(v[down] / q[down]) * q[down]
+    return out + 0.0                          # no negative zero
+
+
 @dataclass(frozen=True)
 class Scale:
-    """SI -> a display unit: ``v * factor + offset`` (a plain object, so that it travels to worker processes)."""
+    """SI -> a display unit: ``v * factor + offset`` (a plain object, so that it travels to worker processes);
+    ``exact`` rounds to 12 significant figures (grid values, shown as given)."""
 
     factor: float = 1.0
     offset: float = 0.0
+    exact: bool = False
 
     def __call__(self, v):
-        return np.asarray(v) * self.factor + self.offset
+        out = np.asarray(v) * self.factor + self.offset
+        return tidy(out) if self.exact else out
+
+    def inverse(self, shown):
+        return (np.asarray(shown, dtype=float) - self.offset) / self.factor
 
 
 def _display(spec: Spec, text: str, currency: str):
@@ -150,10 +181,18 @@ def parse_vary(text: str, scenario: Scenario) -> Axis:
         if not np.allclose(values, np.round(values)):
             raise InputError(f'{where}: expected whole numbers for a count, got "{body}"')
         values = np.round(values)
+    unit, show = _display(spec, first, scenario.currency)
+    if isinstance(show, Scale):
+        # the grid as given: its points shown to 12 significant figures, and the SI values taken from them (so that
+        # a point equals --set with that value)
+        show = Scale(show.factor, show.offset, exact=True)
+        shown = show(values)
+        values = np.where(np.isfinite(shown), show.inverse(shown), values)
+        if spec.kind == "count":
+            values = np.round(values)
     # every grid value must pass the key's own bounds (the ends were parsed; check the rest the same way)
     for v in values:
         check_bounds(spec, v, where, body)
-    unit, show = _display(spec, first, scenario.currency)
     return Axis(key, values, unit, show(values), show)
 
 
@@ -577,13 +616,20 @@ def percentile_interval(x: np.ndarray, q: float, level: float = 0.95, presorted:
 
 def wilson(k: int, n: int, z: float = 1.959964) -> list:
     """The Wilson score interval (95 %) of a binomial share k/n (Wilson 1927, "Probable inference, the law of
-    succession, and statistical inference", J. Am. Stat. Assoc. 22, 209-212)."""
+    succession, and statistical inference", J. Am. Stat. Assoc. 22, 209-212), within [0, 1] and holding k/n.
+
+    Examples
+    --------
+    >>> wilson(0, 50)[0], wilson(50, 50)[1]
+    (0.0, 1.0)
+    """
     if n == 0:
         return [0.0, 1.0]
     p = k / n
     centre = (p + z * z / (2 * n)) / (1 + z * z / n)
     half = z * np.sqrt(p * (1 - p) / n + z * z / (4 * n * n)) / (1 + z * z / n)
-    return [float(max(0.0, centre - half)), float(min(1.0, centre + half))]
+    # the interval holds its own estimate exactly (at k = 0 and k = n rounding would leave 1e-19 or 1 - 1e-16)
+    return [float(max(0.0, min(p, centre - half))), float(min(1.0, max(p, centre + half)))]
 
 
 def separation(shares: dict, intervals: dict, n: int, criterion: str) -> dict:
@@ -711,10 +757,34 @@ def grid_points(sr: SweepResult) -> list[dict]:
     return rows
 
 
+def grid_frame(sr: SweepResult):
+    """``grid.csv``: :func:`grid_points` as a pandas DataFrame whose columns carry their units as the cases file's
+    do (``energy.electricity_price [USD/kWh]``, ``ro.levelized_cost_per_m3 [EUR/m3]``); first places have none."""
+    import pandas as pd
+    units = {a.key: a.unit for a in sr.axes}
+    for t in sr.technologies:
+        for m in ("lcow", "work_equivalent"):
+            units[f"{t}.{METRICS[m][0]}"] = METRICS[m][1].format(currency=sr.scenario.currency)
+    frame = pd.DataFrame(grid_points(sr))
+    return frame.rename(columns={c: f"{c} [{units[c]}]" for c in frame.columns if c in units})
+
+
+def overrides(scenario: Scenario) -> dict:
+    """The keys set on the command line (``--set``) as written: dotted key -> value text. Every figure of the sweep
+    holds at these values, so its files say so beside the break-even points."""
+    from .scenario import parse_override
+    out = {}
+    for text in scenario.overrides:
+        sec, key, value = parse_override(text)
+        out[f"{sec}.{key}"] = value
+    return out
+
+
 def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
     """The JSON summary of the contract (with a ``sensitivity`` section when one was computed)."""
     from .present import CAUTION
     body = {"scenario": sr.scenario.name, "cases": sr.n, "mode": sr.mode, "varied": list(sr.cases),
+            "overrides": overrides(sr.scenario),
             "summary": summary(sr), "ranking": ranking(sr), "warnings": sr.warnings, "flags": sr.flags,
             "notice": CAUTION}
     if sr.mode == "grid":

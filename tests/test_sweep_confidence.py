@@ -80,6 +80,6 @@ def test_grid_points_table_file_and_xarray(toy, tmp_path, capsys):
     assert "each grid point" in text and "p10" not in text and "lowest to highest" in text
     folder = next(out.iterdir())
     grid = (folder / "grid.csv").read_text().splitlines()
-    assert len(grid) == 9 and grid[0].startswith("toy.recovery,energy.electricity_price,toy.levelized_cost")
+    assert len(grid) == 9 and grid[0].startswith("toy.recovery [-],energy.electricity_price [USD/kWh],toy.levelized_cost_per_m3 [USD/m3]")
     body = json.loads((folder / "summary.json").read_text())
     assert len(body["grid_points"]) == 8

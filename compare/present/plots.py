@@ -101,7 +101,7 @@ def grid_figure(sr, folder) -> list[str]:
     from matplotlib.lines import Line2D
 
     from ..sweep import break_even
-    from .tables import fmt_number, with_unit
+    from .tables import fmt_group, fmt_number, with_unit
     plt = _plt()
     ax0 = sr.axes[0]
     shape = tuple(a.values.size for a in sr.axes)
@@ -124,19 +124,35 @@ def grid_figure(sr, folder) -> list[str]:
                 fl = sr.floor.reshape(shape)[(slice(None),) + rest]
                 ax.plot(ax0.display, fl, styles[j % 4], color="k", lw=1.2)
         if metric in crit_of:
-            shown = 0
+            shown, spans = 0, set()
             for c in break_even(sr, crit_of[metric]):
                 j = next((j for j, rest in enumerate(rests)
                           if all(np.isclose(c["at"].get(a.key, np.nan), a.display[i])
                                  for a, i in zip(sr.axes[1:], rest))), None)
-                if c["kind"] != "crossing" or j is None:
+                if j is None:
                     continue
-                ax.axvline(c["value"], color="0.25", ls=":", lw=1.3)
                 where = f"\n({tail(rests[j])})" if len(rests) > 1 else ""
-                right = c["value"] > 0.6 * ax0.display.max() + 0.4 * ax0.display.min()
-                ax.annotate(f"{(c['from'] or 'none').upper()} to {(c['to'] or 'none').upper()}\n"
-                            f"at {with_unit(fmt_number(c['value'], 3), c['unit'])}{where}", (c["value"], 1.0),
-                            xycoords=("data", "axes fraction"), xytext=(-3 if right else 3, -3 - 30 * shown),
+                change = f"{(c['from'] or 'none').upper()} to {(c['to'] or 'none').upper()}"
+                if c["kind"] == "crossing":
+                    x = c["value"]
+                    ax.axvline(x, color="0.25", ls=":", lw=1.3)
+                    text = f"{change}\nat {with_unit(fmt_number(c['value'], 3), c['unit'])}{where}"
+                else:
+                    # first place changes because a technology becomes feasible or infeasible somewhere between two
+                    # grid points: the span between them, shaded
+                    lo, hi = c["between"]
+                    if (lo, hi) not in spans:              # once per span, whatever the other keys
+                        ax.axvspan(lo, hi, color="0.5", alpha=0.18, lw=0)
+                        spans.add((lo, hi))
+                    x = hi
+                    a, b = fmt_group([float(lo), float(hi)], 3)
+                    text = (f"{change} between {with_unit(f'{a} and {b}', c['unit'])}:\n"
+                            f"{_feasibility_words(sr, metric, c, rests[j], a, b)}{where}")
+                right = x > 0.6 * ax0.display.max() + 0.4 * ax0.display.min()
+                if right and c["kind"] != "crossing":
+                    x = c["between"][0]
+                ax.annotate(text, (x, 1.0),
+                            xycoords=("data", "axes fraction"), xytext=(-3 if right else 3, -3 - 40 * shown),
                             textcoords="offset points", fontsize=7.5, va="top", ha="right" if right else "left",
                             color="0.2", bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "none",
                                                "alpha": 0.85})
@@ -162,6 +178,20 @@ def grid_figure(sr, folder) -> list[str]:
     names = _save(fig, folder, "sweep")
     plt.close(fig)
     return names
+
+
+def _feasibility_words(sr, metric: str, change: dict, rest: tuple, lo: str, hi: str) -> str:
+    """Why first place changes between two grid points (shown ``lo`` and ``hi``): which technology stops (or starts)
+    being feasible."""
+    shape = tuple(a.values.size for a in sr.axes)
+    i = int(np.argmin(np.abs(sr.axes[0].display - change["between"][0])))
+    ok = {t: np.isfinite(sr.metrics[t][metric].reshape(shape)[(slice(None),) + rest]) for t in sr.technologies}
+    a, b = change["from"], change["to"]
+    if a is not None and ok[a][i] and not ok[a][min(i + 1, shape[0] - 1)]:
+        return f"{a.upper()} feasible at {lo}, not at {hi}"
+    if b is not None and not ok[b][i] and ok[b][min(i + 1, shape[0] - 1)]:
+        return f"{b.upper()} infeasible at {lo}, feasible at {hi}"
+    return "a technology's feasibility changes"
 
 
 # ------------------------------------------------------------------------------------------------ samples

@@ -249,8 +249,11 @@ def print_tables(console: Console, tables: list[Table], warnings: list[str]) -> 
     console.print(Text(CAUTION, style="dim"))
 
 
-def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]], warnings: list[str]) -> str:
+def markdown_report(title: str, sections: list[tuple[str, list[str], list[list]]], warnings: list[str],
+                    preface: list[str] = ()) -> str:
     parts = [f"# {md(title)}", ""]
+    for line in preface:
+        parts += [md(line), ""]
     for heading, columns, rows, *layout in sections:
         if heading:
             parts += [f"## {md(heading)}", ""]
@@ -484,6 +487,24 @@ def _key_unit(body: dict) -> dict:
     return {g["key"]: g["unit"] for g in body.get("grid", [])}
 
 
+def set_on_command_line(body: dict) -> str:
+    """The keys a sweep's ``--set`` fixed, as "key = value (--set)" joined by "; " ("" when none): every figure of
+    the sweep, its break-even points included, holds only at these values."""
+    sets = body.get("overrides") or {}
+    return "; ".join(f"{k} = {v}" for k, v in sets.items()) + " (--set)" if sets else ""
+
+
+def sweep_kind(body: dict) -> str:
+    """How a sweep's cases were made, in words: a grid, Monte Carlo or Latin hypercube samples, or the plain
+    samples (blocks A and B) of a Sobol design."""
+    if body["mode"] == "grid":
+        return "grid"
+    if (body.get("sensitivity") or {}).get("method") == "sobol":
+        return "samples: blocks A and B of the Sobol design"
+    return "Latin hypercube samples" if (body.get("sampling") or {}).get("latin_hypercube") else \
+        "Monte Carlo samples"
+
+
 def sweep_sections(body: dict) -> list[tuple]:
     """The sweep summary as (heading, columns, rows, layout) sections. Samples: p50 (p10-p90) per technology and
     metric, the share of samples each ranks first with its 95 % interval, and whether the leaders are told apart.
@@ -517,8 +538,9 @@ def sweep_sections(body: dict) -> list[tuple]:
         rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl, _row_decimals([fl], names))] * len(techs))
     what = ("lowest to highest across the grid points (feasible ones)" if grid
             else "p50 (p10-p90) over feasible samples")
-    out = [(f"{body['scenario']}: {body['cases']} cases ({body['mode']}); {what}", ["metric"] + techs, rows,
-            Layout("row"))]
+    held = set_on_command_line(body)
+    out = [(f"{body['scenario']}{', at ' + held if held else ''}: {body['cases']:,} cases ({sweep_kind(body)}); {what}",
+            ["metric"] + techs, rows, Layout("row"))]
     share_cols = techs + ["none feasible"]
     if grid:
         out.append(("share of grid points ranked first", ["criterion"] + share_cols,
@@ -541,7 +563,9 @@ def sweep_sections(body: dict) -> list[tuple]:
         if points and len(points) <= GRID_ROWS:
             cols = [bracket_unit(k, units[k]) for k in keys] + [f"{t} cost [{cost_unit}]" for t in techs] + \
                 ["first on cost", "first on energy"]
-            rows = [[p[k] for k in keys] + [p[f"{t}.levelized_cost_per_m3"] for t in techs]
+            # the technologies' costs are one quantity in one unit: every cost column shows the same decimals
+            costs = iter(fmt_group([p[f"{t}.levelized_cost_per_m3"] for p in points for t in techs]))
+            rows = [[p[k] for k in keys] + [next(costs) for _ in techs]
                     + [p["first_on_cost"] or "none", p["first_on_energy"] or "none"] for p in points]
             n = len(keys) + len(techs)
             out.append(("each grid point", cols, rows, Layout(text=(n, n + 1))))
@@ -560,8 +584,8 @@ def sweep_sections(body: dict) -> list[tuple]:
                     where = with_unit(f"between {lo} and {hi}", c["unit"]) + " (feasibility)"
                 rows.append([c["criterion"], f"{c['from'] or 'none'} -> {c['to'] or 'none'}",
                              f"{c['key']} = {where}", at or "-"])
-        out.append(("where first place changes along the grid (break-even)", ["criterion", "change", "at",
-                                                                               "other keys"],
+        out.append(("where first place changes along the grid (break-even)" + (f", at {held}" if held else ""),
+                    ["criterion", "change", "at", "other keys"],
                     rows or [["-", "no change along the grid", "-", "-"]], Layout(text=(1, 2, 3))))
     if body.get("sensitivity"):
         out += sensitivity_sections(body["sensitivity"], body)
@@ -616,4 +640,6 @@ def sweep_tables(console: Console, body: dict) -> None:
 
 
 def sweep_markdown(body: dict) -> str:
-    return markdown_report(f"Sweep: {body['scenario']}", sweep_sections(body), body.get("warnings", []))
+    at = set_on_command_line(body)
+    preface = [f"Set on the command line, so every figure below holds only at: {at}."] if at else []
+    return markdown_report(f"Sweep: {body['scenario']}", sweep_sections(body), body.get("warnings", []), preface)
