@@ -10,9 +10,12 @@ heat, Q (1 - T0/T_heat), T0 the feed temperature: the same dead state as the lea
    are searched, and why), at the claimed recovery;
 3. its design with the scenario's own parameters, at the claimed recovery.
 
-Verdicts: ``below_floor`` (impossible), ``below_model`` (below the best-practice design: extraordinary, needs
-evidence), ``within_model`` (from the best-practice design up to the scenario's design times :data:`MARGIN`) and
-``above_model`` (above that: wasteful, or a different scope). Designs run through the public pipeline
+Verdicts (:data:`VERDICTS`): ``invalid`` (the claim contradicts itself: heat no warmer than the feed cannot drive a
+thermal process), ``below_floor`` (impossible), ``no_model_design`` (above the least work, but this tool has no
+feasible design of the technology at that recovery to compare with, even with best-practice parameters: the binding
+limits are named), ``below_model`` (below the best-practice design: extraordinary, needs evidence), ``within_model``
+(from the best-practice design up to the scenario's design times :data:`MARGIN`, or the best-practice design's when
+the scenario's is infeasible) and ``above_model`` (above that: wasteful, or a different scope). Designs run through the public pipeline
 (:func:`compare.scenario.load` or :func:`compare.scenario.resolve` with overrides, then
 :func:`compare.pipeline.evaluate`); nothing here copies model code.
 """
@@ -34,7 +37,9 @@ from .thermo.constants import J_PER_KWH
 MARGIN = 1.25
 MARGIN_SOURCE = ("practice: a plant runs some 10-25 % above its design figure (fouling, part load, ageing); "
                  "no source")
-VERDICTS = ("below_floor", "below_model", "within_model", "above_model")
+VERDICTS = ("invalid", "below_floor", "no_model_design", "below_model", "within_model", "above_model")
+#: a ``within_model`` claim within this share above the band's lower end is "at the best-practice end"
+NEAR = 0.05
 SCOPES = {"plant": "whole plant: intake, pretreatment, the separation step and post-treatment",
           "process": "the separation step alone (no intake, pretreatment or post-treatment)"}
 
@@ -158,7 +163,45 @@ def _design_overrides(tech: str, scenario: Scenario) -> list[str]:
             f"energy.dead_state_temperature={FEED_TEMPERATURE}"]
 
 
-def _design_figures(rec: dict) -> dict:
+#: the scenario key that binds an infeasible flag of a design, and the limit in words: (model, code) -> (key, text)
+LIMITS = {
+    ("ro", "max_pressure"): ("max_pressure", "the feed pressure needed is above {key} {value}"),
+    ("ro", "driving_force"): ("max_pressure", "the concentrate's osmotic pressure leaves no net driving pressure at "
+                                              "the end of the vessel even at {key} {value} (thermodynamic "
+                                              "restriction)"),
+    ("ro", "lead_flux"): ("max_lead_flux", "the lead element's flux is above {key} {value}{lowered}"),
+}
+#: the two designs by their short names (band labels)
+SHORT = {"best_practice": "best-practice design", "scenario_design": "scenario's design"}
+_PREFIX = {"ro": ("ro.", "RO: "), "fo/ro": ("fo.regenerator.", "FO regenerator: ")}
+
+
+def binding_limits(scenario: Scenario, flags) -> list[str]:
+    """The reasons of a design's ``infeasible`` flags (records' flag dicts), each naming the scenario key that binds
+    and its value as resolved (``ro.max_pressure 82.7 bar``) where :data:`LIMITS` knows it, else the flag's own
+    message; once each, in order."""
+    from .tech.ro import LOWEST_FLUX_SHARE
+    out = []
+    for f in flags:
+        if f.get("kind") != "infeasible":
+            continue
+        model = f.get("model", "")
+        known = LIMITS.get((model.split("/")[-1], f.get("code")))
+        if known and model in _PREFIX:
+            key, text = known
+            prefix, label = _PREFIX[model]
+            lowered = (f" even at {LOWEST_FLUX_SHARE:.0%} of the design flux"
+                       if scenario.texts.get(f"{prefix}lead_flux_limit") == "lower_flux" else "")
+            value = str(scenario.texts.get(prefix + key, "")).replace("^", "")
+            line = label + text.format(key=prefix + key, value=value, lowered=lowered)
+        else:
+            line = f.get("message", "")
+        if line and line not in out:
+            out.append(line)
+    return out
+
+
+def _design_figures(rec: dict, scenario: Scenario) -> dict:
     return {
         "feasible": bool(rec["feasible"]),
         "recovery": _num(rec.get("recovery")),
@@ -168,6 +211,7 @@ def _design_figures(rec: dict) -> dict:
         "work_equivalent_kwh_per_m3": _num(rec.get("work_equivalent_kwh_per_m3")) if rec["feasible"] else None,
         "warnings": list(rec.get("warnings", [])),
         "flags": list(rec.get("flags", [])),
+        "limits": [] if rec["feasible"] else binding_limits(scenario, rec.get("flags", [])),
     }
 
 
@@ -179,7 +223,7 @@ def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
 
     scenario = source.resolve(extra)
     if not search:
-        return _design_figures(scenario_record(scenario, tech)), {}
+        return _design_figures(scenario_record(scenario, tech), scenario), {}
     from .scenario import sections
     specs = sections()[tech]
     keys = list(search)
@@ -196,7 +240,7 @@ def _evaluate(source: _Source, tech: str, extra: list[str], search: dict):
     feasible = [i for i, w in enumerate(work) if w is not None]
     best = min(feasible, key=lambda i: work[i]) if feasible else 0
     chosen = {k: grids[j][combos[j][best]] for j, k in enumerate(keys)}
-    return _design_figures(records[best]), chosen
+    return _design_figures(records[best], scenario), chosen
 
 
 def _weighted_temperature(scenario: Scenario) -> float:
@@ -309,35 +353,58 @@ def judge(source, claim: dict, overrides=()) -> dict:
     scen, best, chosen = _DESIGNS[key]
 
     w_best, w_scen = best["work_equivalent_kwh_per_m3"], scen["work_equivalent_kwh_per_m3"]
-    known = [x for x in (w_best, w_scen) if x is not None]
-    lower = min(known) if known else None
-    upper_base = w_scen if w_scen is not None else w_best
-    upper = None if upper_base is None else MARGIN * upper_base
     name = tech.upper()
+    labels = {"best_practice": f"best-practice {name} design", "scenario_design": f"scenario's {name} design"}
+    known = {k: w for k, w in (("best_practice", w_best), ("scenario_design", w_scen)) if w is not None}
+    lower_from = min(known, key=known.get) if known else None
+    upper_from = "scenario_design" if w_scen is not None else ("best_practice" if w_best is not None else None)
+    lower = known.get(lower_from)
+    upper = None if upper_from is None else MARGIN * known[upper_from]
+    top_label = (f"{labels[upper_from]} x {MARGIN:g}" if upper_from else "")
+    limits = []
+    for k in ("best_practice", "scenario_design"):
+        for line in (best if k == "best_practice" else scen)["limits"]:
+            hit = next((x for x in limits if x["limit"] == line), None)
+            if hit is None:
+                limits.append({"limit": line, "designs": [k]})
+            else:
+                hit["designs"].append(k)
     fmt = lambda x: f"{x:.2f} kWh/m3"  # noqa: E731
-    if w_claim < lw:
+    T_hot = float(np.max(T_feed))
+    position = None
+    if q > 0 and Th is not None and float(Th) <= T_hot:
+        verdict = "invalid"
+        t_feed = (f"{T0 - 273.15:.1f} degC" if T_feed.size == 1 or float(Th) <= T0 else
+                  f"up to {T_hot - 273.15:.1f} degC in its warmest month")
+        why = (f"heat at {float(Th) - 273.15:.3g} degC is no warmer than the feed ({t_feed}): it cannot drive "
+               f"{name}; its exergy here is zero, so the claim as stated cannot be judged")
+    elif w_claim < lw:
         verdict = "below_floor"
         why = (f"the claim's work equivalent {fmt(w_claim)} is below the least work of its own streams, {fmt(lw)}, "
                "which no process can beat")
     elif lower is None:
-        verdict = "below_model"
-        why = (f"the claim's work equivalent {fmt(w_claim)} is above the least work ({fmt(lw)}), but this tool finds "
-               f"no feasible {name} design at recovery {r:.3g} at this site, even with best-practice parameters")
+        verdict = "no_model_design"
+        why = (f"the claim's work equivalent {fmt(w_claim)} is above the least work ({fmt(lw)}), but this tool has no "
+               f"feasible {name} design at recovery {r:.3g} at this site to compare it with, even with best-practice "
+               "parameters (the binding limits are listed)")
     elif w_claim < lower:
         verdict = "below_model"
-        why = (f"the claim's work equivalent {fmt(w_claim)} is below this tool's best-practice {name} design, "
+        why = (f"the claim's work equivalent {fmt(w_claim)} is below this tool's {labels[lower_from]}, "
                f"{fmt(lower)}, though above the least work, {fmt(lw)}")
     elif w_claim <= upper:
         verdict = "within_model"
-        why = (f"the claim's work equivalent {fmt(w_claim)} lies between the best-practice design, {fmt(lower)}, "
-               f"and the scenario's design times {MARGIN:g}, {fmt(upper)}")
+        if w_claim <= lower * (1 + NEAR):
+            position = f"at its best-practice end, within {NEAR:.0%} of the {labels[lower_from]}"
+        why = (f"the claim's work equivalent {fmt(w_claim)} lies between the {labels[lower_from]}, {fmt(lower)}, "
+               f"and the {top_label}, {fmt(upper)}")
     else:
         verdict = "above_model"
-        why = (f"the claim's work equivalent {fmt(w_claim)} is above the scenario's design times {MARGIN:g}, "
-               f"{fmt(upper)}, unless the claim covers more than its stated scope")
+        why = (f"the claim's work equivalent {fmt(w_claim)} is above the {top_label}, {fmt(upper)}, unless the "
+               "claim covers more than its stated scope")
     texts = claim.get("texts", {})
     return {
         "verdict": verdict,
+        "position": position,
         "explanation": why,
         "claim": {
             "technology": tech, "scope": scope, "scope_means": SCOPES[scope], "source": claim.get("source", ""),
@@ -369,12 +436,15 @@ def judge(source, claim: dict, overrides=()) -> dict:
                             "note": "the scenario's own parameters at the claimed recovery"},
         "margin": MARGIN, "margin_source": MARGIN_SOURCE,
         "within_model_kwh_per_m3": [lower, upper],
+        "within_model_from": [lower_from, upper_from],
+        "binding_limits": limits,
         "compared": [
             {"figure": "claim, work equivalent", "kwh_per_m3": w_claim},
             {"figure": "least work of the claimed streams", "kwh_per_m3": lw},
-            {"figure": f"best-practice {name} design", "kwh_per_m3": w_best},
-            {"figure": f"scenario's {name} design", "kwh_per_m3": w_scen},
-            {"figure": f"scenario's design x {MARGIN:g} (top of within_model)", "kwh_per_m3": upper},
+            {"figure": labels["best_practice"], "kwh_per_m3": w_best},
+            {"figure": labels["scenario_design"], "kwh_per_m3": w_scen},
+            {"figure": (f"{SHORT[upper_from]} x {MARGIN:g} (top of within_model)" if upper_from else
+                        "top of within_model (no feasible design)"), "kwh_per_m3": upper},
         ],
     }
 

@@ -558,8 +558,10 @@ def _report_parsers(sub) -> None:
                        description="Judge a claimed specific energy of a technology at a scenario's site: below the "
                                    "least work of its streams (below_floor), below a best-practice design "
                                    "(below_model), up to the scenario's design plus a margin (within_model), or "
-                                   "above (above_model). Without --technology, judges the scenario's [claim] "
-                                   "tables. Heat is valued by its exergy at its temperature.")
+                                   "above (above_model); no feasible design to compare with (no_model_design, "
+                                   "with the binding limits), or heat no warmer than the feed (invalid). Without "
+                                   "--technology, judges the scenario's [claim] tables. Heat is valued by its "
+                                   "exergy at its temperature.")
     _scenario_arguments(c, many=False)
     c.add_argument("--technology", metavar="T", help="the technology claimed (ro, med, fo)")
     c.add_argument("--electricity", metavar="Q", help='electricity per m3 of product, e.g. "3.5 kWh/m^3"')

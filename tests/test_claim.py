@@ -192,7 +192,7 @@ def test_a_brine_beyond_the_model_is_flagged_and_no_design_is_below_model(site):
     # pressure limit (the concentrate's osmotic pressure is above 82.7 bar: thermodynamic restriction)
     j = judge(site, claim("ro", 3.0, recovery=0.8))
     assert any("outside the validated range" in w for w in j["warnings"])
-    assert j["verdict"] == "below_model" and "no feasible RO design" in j["explanation"]
+    assert j["verdict"] == "no_model_design" and "no feasible RO design" in j["explanation"]
     assert j["within_model_kwh_per_m3"] == [None, None]
 
 
@@ -214,3 +214,49 @@ def test_monthly_feed_temperature_is_the_production_weighted_mean_compare_shows(
     assert abs(shown - plain) > 0.01                           # premise: the two means differ here
     assert j["site"]["feed_temperature_c"] == pytest.approx(shown, abs=1e-9)
     assert j["site"]["dead_state_c"] == pytest.approx(shown, abs=1e-9)
+
+
+def test_no_feasible_design_is_not_below_a_missing_figure(site):
+    # 35 g/kg at 65 % recovery leaves a brine near 100 g/kg whose osmotic pressure (about 80 bar and more at the
+    # membrane wall; van 't Hoff, practice) reaches the default 82.7 bar limit: neither design is feasible, so the claim
+    # is compared with no design figure and the binding limit is named with its value, once
+    from compare.present.claims import notes
+    j = judge(site, claim("ro", 3.0, recovery=0.65))
+    assert j["verdict"] == "no_model_design", j["explanation"]
+    assert "below" not in j["explanation"]
+    figures = {row["figure"]: row["kwh_per_m3"] for row in j["compared"]}
+    assert figures["best-practice RO design"] is None and figures["scenario's RO design"] is None
+    assert figures["top of within_model (no feasible design)"] is None
+    assert [lim["designs"] for lim in j["binding_limits"]][0] == ["best_practice", "scenario_design"]
+    lines = notes(j)
+    text = " ".join(lines)
+    assert text.count("ro.max_pressure 82.7 bar") == 1
+    assert "— to —" not in text and "No within_model band: neither" in text
+    assert all(text.count(lim["limit"]) == 1 for lim in j["binding_limits"])
+
+
+def test_band_is_labelled_by_the_design_it_is_computed_from(site):
+    # with a 120 bar limit the best-practice design is feasible; a design flux of 40 L/m2/h keeps the scenario's own
+    # design beyond its lead-element limit: the top of within_model is then the best-practice design x 1.25, so labelled
+    from compare.present.claims import band
+    j = judge(site, claim("ro", 3.0, recovery=0.65), ["ro.max_pressure=120 bar", "ro.flux=40 L/m^2/h"])
+    figures = {row["figure"]: row["kwh_per_m3"] for row in j["compared"]}
+    best = figures["best-practice RO design"]
+    assert best is not None and figures["scenario's RO design"] is None
+    assert "scenario's design x 1.25 (top of within_model)" not in figures
+    assert figures["best-practice design x 1.25 (top of within_model)"] == pytest.approx(MARGIN * best)
+    assert j["within_model_from"] == ["best_practice", "best_practice"]
+    assert j["binding_limits"] == [{"limit": j["binding_limits"][0]["limit"], "designs": ["scenario_design"]}]
+    assert "ro.max_lead_flux" in j["binding_limits"][0]["limit"]
+    assert "to the best-practice design times 1.25" in band(j) and "scenario's design is infeasible" in band(j)
+
+
+@pytest.mark.parametrize("heat_temperature", [20.0, 25.0])
+def test_heat_no_warmer_than_the_feed_makes_a_claim_invalid(site, heat_temperature):
+    # thermodynamics (Carnot): heat at or below the feed (the dead state, 25 degC here) has no exergy and cannot drive
+    # a thermal process on this feed: the claim is invalid as stated, never "below the design"
+    j = judge(site, claim("med", 1.5, 60.0, heat_temperature, recovery=0.4))
+    assert j["verdict"] == "invalid", j["explanation"]
+    assert (f"heat at {heat_temperature:g} degC is no warmer than the feed (25.0 degC): it cannot drive MED"
+            in j["explanation"])
+    assert judge(site, claim("med", 1.5, 60.0, 70.0, recovery=0.4))["verdict"] != "invalid"

@@ -9,11 +9,32 @@ from .tables import Layout, as_written, fmt_number
 PARAMETERS = Layout("mixed", text=(1, 2), keys=(0,))
 
 VERDICT_WORDS = {
+    "invalid": "invalid as stated: its heat cannot drive the process",
     "below_floor": "impossible: below the least work of its own streams",
+    "no_model_design": "not judged against a design: this tool has no feasible design here to compare with",
     "below_model": "below this tool's best-practice design: extraordinary, needs evidence",
     "within_model": "within what this technology needs here",
     "above_model": "above what this technology needs here",
 }
+
+
+#: the verdicts' colours in the terminal
+STYLES = {"invalid": "bold red", "below_floor": "bold red", "no_model_design": "bold cyan",
+          "below_model": "bold yellow", "within_model": "bold green", "above_model": "bold magenta"}
+
+
+def verdict_words(j: dict) -> str:
+    """The verdict in words, with where a ``within_model`` claim sits when that matters (its best-practice end)."""
+    words = VERDICT_WORDS[j["verdict"]]
+    return f"{words}, {j['position']}" if j.get("position") else words
+
+
+def claimed(j: dict) -> str:
+    """What the claim said, as claimed: electricity, and heat at its temperature where given."""
+    c = j["claim"]
+    heat = (f" + {fmt_number(c['heat_kwh_per_m3'], 3)} kWh_th/m3 at {fmt_number(c['heat_temperature_c'], 3)} degC"
+            if c["heat_kwh_per_m3"] else "")
+    return f"{fmt_number(c['electricity_kwh_per_m3'], 3)} kWh/m3{heat}"
 
 
 def title(j: dict) -> str:
@@ -38,23 +59,50 @@ def parameter_rows(j: dict, design: str = "best_practice") -> list[list]:
 
 def notes(j: dict) -> list[str]:
     c, s = j["claim"], j["site"]
-    out = [f"Verdict: {j['verdict']} ({VERDICT_WORDS[j['verdict']]}). {j['explanation'][0].upper()}"
+    out = [f"Verdict: {j['verdict']} ({verdict_words(j)}). {j['explanation'][0].upper()}"
            f"{j['explanation'][1:]}."]
-    if c["heat_kwh_per_m3"]:
+    if c["heat_kwh_per_m3"] and j["verdict"] == "invalid":
+        out.append(f"Heat is valued by its exergy, (1 - T0/T_heat), T0 = {s['dead_state_c']:.1f} degC "
+                   f"({s['dead_state']}): heat at {fmt_number(c['heat_temperature_c'], 3)} degC has none, and a "
+                   "thermal process needs heat warmer than its feed.")
+    elif c["heat_kwh_per_m3"]:
         out.append(f"Heat is valued by its exergy: {fmt_number(c['heat_kwh_per_m3'], 3)} kWh_th/m3 x (1 - T0/T_heat) "
                    f"= x {c['exergy_factor']:.4f}, with T0 = {s['dead_state_c']:.1f} degC, {s['dead_state']}.")
     out.append(f"Scope: {c['scope']} ({c['scope_means']}). Recovery {fmt_number(c['recovery'], 3)} from "
                f"{c['recovery_from']}; product at the scenario's target, {fmt_number(s['product_salinity_g_per_kg'], 3)} "
                "g/kg.")
-    lo, hi = j["within_model_kwh_per_m3"]
-    out.append(f"within_model spans {fmt_number(lo, 3)} to {fmt_number(hi, 3)} kWh/m3: from the lower of the "
-               f"best-practice and scenario designs to the scenario's design times {j['margin']:g} "
-               f"({j['margin_source']}).")
+    out.append(band(j))
     out += [f"Least work: {w}." for w in j.get("warnings", [])]
-    for label, design in (("best-practice design", j["best_practice"]), ("scenario's design", j["scenario_design"])):
-        if not design["feasible"]:
+    names = {"best_practice": "best-practice design", "scenario_design": "scenario's design"}
+    for lim in j.get("binding_limits", []):
+        which = "both designs" if len(lim["designs"]) == 2 else f"the {names[lim['designs'][0]]} only"
+        out.append(f"Binding limit at this recovery ({which}): {lim['limit']}.")
+    for k, label in names.items():
+        if not j[k]["feasible"] and not j[k].get("limits"):
             out.append(f"The {label} is infeasible at this recovery: "
-                       + "; ".join(design["warnings"] or ["no reason given"]) + ".")
+                       + "; ".join(j[k]["warnings"] or ["no reason given"]) + ".")
+    return out
+
+
+def band(j: dict) -> str:
+    """The ``within_model`` band in words: its ends and what each is computed from, or why an end is missing."""
+    lo, hi = j["within_model_kwh_per_m3"]
+    lo_from, hi_from = j.get("within_model_from") or ("best_practice", "scenario_design")
+    names = {"best_practice": "best-practice design", "scenario_design": "scenario's design"}
+    margin = f"{j['margin']:g} ({j['margin_source']})"
+    if lo is None:
+        return ("No within_model band: neither the best-practice nor the scenario's design is feasible at this "
+                "recovery (the binding limits follow), so the claim has no design figure to be compared with.")
+    text = (f"within_model spans {fmt_number(lo, 3)} to {fmt_number(hi, 3)} kWh/m3: from the {names[lo_from]} to "
+            f"the {names[hi_from]} times {margin}")
+    if hi_from == "best_practice":
+        text += ("; the scenario's design is infeasible at this recovery, so the top is taken from the "
+                 "best-practice design")
+    elif lo_from == "scenario_design" and j["best_practice"]["work_equivalent_kwh_per_m3"] is None:
+        text += "; the best-practice design is infeasible at this recovery"
+    return text + "."
+
+
     return out
 
 
@@ -71,8 +119,7 @@ def print_claims(console, body: dict) -> None:
             if j[design]["parameters"]:
                 console.print(rich_table(heading, ["key", "value", "why"], parameter_rows(j, design),
                                          layout=PARAMETERS))
-        style = {"below_floor": "bold red", "below_model": "bold yellow", "within_model": "bold green",
-                 "above_model": "bold magenta"}[j["verdict"]]
+        style = STYLES[j["verdict"]]
         lines = list(notes(j))
         lead = f"Verdict: {j['verdict']}"
         if lines and lines[0].startswith(lead):        # the verdict once, in colour, at the head of its sentence
