@@ -187,3 +187,27 @@ def test_template_ships_with_the_package():
     assert resources.files("compare.present").joinpath("templates/report.html.j2").is_file()
     text = (Path(__file__).resolve().parents[1] / "pyproject.toml").read_text()
     assert "templates/*.j2" in text and "jinja2" in text
+
+
+def test_first_screen_shows_what_each_claim_said_in_the_terminal_words(tmp_path):
+    # a thermal bid is shown as claimed (electricity, and heat at its temperature), then the work equivalent judged;
+    # the verdict reads as the terminal's, and a claim within 5 % of the best-practice design says it sits there
+    from compare.claim import judge
+    from compare.present.claims import VERDICT_WORDS
+    from compare.present.report import _glance
+
+    scenario = tmp_path / "site.toml"
+    scenario.write_text(SITE)
+    kwh = 3.6e6
+    ro = {"technology": "ro", "electricity": 3.0 * kwh, "heat": 0.0, "heat_temperature": None, "recovery": 0.45,
+          "scope": "plant", "source": "t"}
+    best = judge(str(scenario), ro)["within_model_kwh_per_m3"][0]
+    near = judge(str(scenario), {**ro, "electricity": 1.01 * best * kwh})
+    med = judge(str(scenario), {**ro, "technology": "med", "electricity": 1.5 * kwh, "heat": 60.0 * kwh,
+                                "heat_temperature": 343.15, "recovery": 0.4})
+    assert near["verdict"] == med["verdict"] == "within_model" and med["position"] is None
+    line = next(x for x in _glance({"results": [], "floor": {}}, [near, med]) if x.startswith("Claims:"))
+    work = f"{med['claim']['work_equivalent_kwh_per_m3']:.3g}"
+    assert f"MED 1.50 kWh/m3 + 60 kWh_th/m3 at 70 degC, judged on its work equivalent {work} kWh/m3" in line
+    assert "ordinary" not in line and line.count(VERDICT_WORDS["within_model"]) == 2
+    assert "at its best-practice end" in line and line.count("best-practice end") == 1

@@ -46,12 +46,6 @@ KIND_WORDS = {
     "note": "note",
     "warning": "warning",
 }
-VERDICT_WORDS = {
-    "below_floor": "impossible",
-    "below_model": "extraordinary: needs evidence",
-    "within_model": "ordinary",
-    "above_model": "more than needed",
-}
 
 #: the side-by-side table: (group, label, unit, record field or function of the record, digits)
 FIELDS = (
@@ -441,9 +435,15 @@ def _glance(payload: dict, judgements=()) -> list[str]:
     if bad:
         out.append(f"Cannot work here as specified: {', '.join(bad)} (reasons under Flags).")
     if judgements:
-        out.append("Claims: " + "; ".join(
-            f"{j['claim']['technology'].upper()} {j['claim']['work_equivalent_kwh_per_m3']:.2f} kWh/m3 "
-            f"{j['verdict']} ({VERDICT_WORDS[j['verdict']]})" for j in judgements) + ".")
+        # what each claim said, then the work equivalent judged and the verdict in the terminal's words
+        from .claims import claimed, verdict_words
+
+        def one(j):
+            c = j["claim"]
+            judged = (f", judged on its work equivalent {fmt_number(c['work_equivalent_kwh_per_m3'], 3)} kWh/m3"
+                      if c["heat_kwh_per_m3"] else "")
+            return f"{c['technology'].upper()} {claimed(j)}{judged}: {j['verdict']} ({verdict_words(j)})"
+        out.append("Claims: " + "; ".join(one(j) for j in judgements) + ".")
     return out
 
 
@@ -544,9 +544,9 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
                               fmt_row([r.get("least_work_kwh_per_m3") for r in recs], 4))]
     claims = []
     for j in judgements:
-        from .claims import figure_rows, notes, title
+        from .claims import figure_rows, notes, title, verdict_words
         rows = figure_rows(j)
-        claims.append({"title": title(j), "verdict": j["verdict"], "words": VERDICT_WORDS[j["verdict"]],
+        claims.append({"title": title(j), "verdict": j["verdict"], "words": verdict_words(j),
                        "figures": [(f, x if _num(v) is not None else "— (no feasible design)")
                                    for (f, v), x in zip(rows, fmt_row([v for _, v in rows]))],
                        "notes": notes(j)[1:], "explanation": _sentence(j["explanation"]),
