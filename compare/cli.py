@@ -517,7 +517,7 @@ def cmd_report(args) -> int:
     from .pipeline import evaluate
     from .present.files import to_json
     from .present.records import payload as _payload
-    from .present.report import read_sweep, write_report
+    from .present.report import read_sweep, sweep_mismatch, write_report
     from .runrecord import run_record
 
     from .present.files import check_parent
@@ -529,6 +529,10 @@ def cmd_report(args) -> int:
     payload = json.loads(to_json(_payload(evaluate(scenario))))      # exactly what compare --format json prints
     judgements = [judge(args.scenario, c, args.set or []) for c in claims]
     run = json.loads(to_json(run_record([scenario], ["desal", *args.argv])))
+    # a sweep of another scenario is shown (each figure in its own units), but never silently
+    mismatch = sweep_mismatch(sweep, run) if sweep else None
+    if mismatch:
+        print(f"warning: --sweep: {mismatch}", file=sys.stderr)
     saved, notes = write_report(parent, scenario.name, payload, run, judgements, sweep,
                                 pdf=args.pdf)
     for line in notes:

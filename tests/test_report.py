@@ -211,3 +211,42 @@ def test_first_screen_shows_what_each_claim_said_in_the_terminal_words(tmp_path)
     assert f"MED 1.50 kWh/m3 + 60 kWh_th/m3 at 70 degC, judged on its work equivalent {work} kWh/m3" in line
     assert "ordinary" not in line and line.count(VERDICT_WORDS["within_model"]) == 2
     assert "at its best-practice end" in line and line.count("best-practice end") == 1
+
+
+def test_a_sweep_of_another_scenario_is_said_once_on_stderr_and_atop_the_sweep(tmp_path, monkeypatch, capsys):
+    monkeypatch.setattr(browser, "find", lambda: None)
+    # a USD site and a sweep of the fictional Alder Point, a EUR scenario
+    ours, theirs = tmp_path / "ours.toml", Path(__file__).resolve().parents[1] / "scenarios" / "alder-point.toml"
+    ours.write_text(SITE.split("[claim]")[0])
+    assert main(["sweep", str(theirs), "--vary", "energy.electricity_price=0.05 EUR/kWh,0.2 EUR/kWh", "--set",
+                 "fo.enabled=false", "--out", str(tmp_path / "sweeps"), "--quiet", "--format", "json"]) == 0
+    sweep = next((tmp_path / "sweeps").iterdir())
+    capsys.readouterr()
+    assert main(["report", str(ours), "--sweep", str(sweep), "--out", str(tmp_path / "r")]) == 0
+    warnings = [x for x in capsys.readouterr().err.splitlines() if x.startswith("warning: --sweep:")]
+    assert len(warnings) == 1
+    assert all(w in warnings[0] for w in ("Alder Point (fictional)", "Test Shore (fictional)", "EUR", "USD"))
+    dom = _Dom()
+    dom.feed((next((tmp_path / "r").iterdir()) / "report.html").read_text(encoding="utf-8"))
+    section = dom.page_text.split("Sweep Another scenario. ", 1)        # at the top of the section, under its heading
+    assert len(section) == 2 and section[1].startswith("The sweep is of another scenario, Alder Point (fictional)")
+    # the same scenario's sweep raises nothing
+    assert main(["sweep", str(ours), "--vary", "energy.electricity_price=0.05 USD/kWh,0.2 USD/kWh", "--set",
+                 "fo.enabled=false", "--out", str(tmp_path / "own"), "--quiet", "--format", "json"]) == 0
+    capsys.readouterr()
+    assert main(["report", str(ours), "--sweep", str(next((tmp_path / "own").iterdir())), "--out",
+                 str(tmp_path / "r2")]) == 0
+    assert "warning: --sweep" not in capsys.readouterr().err
+
+
+def test_share_intervals_never_round_a_bound_below_100_to_100(tmp_path):
+    # 2000 samples all ranking RO first: the Wilson 95 % interval (Wilson 1927, J. Am. Stat. Assoc. 22, 209) is
+    # 99.8 % to 100 %, which the table must print as the sentence beneath it does
+    from compare.present.report import read_sweep, sweep_context
+    scenario = Path(__file__).resolve().parents[1] / "scenarios" / "gull-harbour.toml"
+    assert main(["sweep", str(scenario), "--samples", "2000", "--out", str(tmp_path), "--quiet", "--format",
+                 "json"]) == 0
+    ctx = sweep_context(read_sweep(next(p for p in tmp_path.iterdir() if p.is_dir())))
+    cost = next(s for s in ctx["shares"] if s["criterion"] == "cost")
+    assert cost["shares"].startswith("RO 100% (99.8% to 100%)"), cost["shares"]
+    assert "(99.8% to 100%)" in cost["statement"]

@@ -17,7 +17,7 @@ from pathlib import Path
 
 from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
-from .fields import COST_LINES, design_note
+from .fields import COST_LINES, design_note, share_pct
 from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, scaling_rows,
                      share_block, shared_decimals, with_unit)
 
@@ -315,16 +315,40 @@ def _axis_unit(summary: dict, key: str) -> str:
     return next((a.get("unit", "") for a in summary.get("grid") or [] if a.get("key") == key), "")
 
 
-def sweep_context(sweep: dict) -> dict:
+def _currency(run: dict) -> str:
+    sc = (run.get("scenarios") or [{}])[0]
+    return str((sc.get("inputs") or {}).get("finance.currency", {}).get("value") or "")
+
+
+def sweep_mismatch(sweep: dict, run: dict) -> str | None:
+    """One sentence when the sweep was run on another scenario than the report's (another name, or the same name
+    from a different file), naming both and their currencies when these differ; None when they match."""
+    mine = (run.get("scenarios") or [{}])[0]
+    theirs = (sweep["run"].get("scenarios") or [{}])[0]
+    name, other = mine.get("name") or "", theirs.get("name") or sweep["summary"].get("scenario") or ""
+    cur, other_cur = _currency(run), _currency(sweep["run"])
+    money = (f"; its costs are in {other_cur}, this report's in {cur}" if cur and other_cur and cur != other_cur
+             else "")
+    if other and name and other != name:
+        return (f"the sweep is of another scenario, {other}, not this report's {name}{money}: its figures are not "
+                "this site's")
+    if theirs.get("sha256") and mine.get("sha256") and theirs["sha256"] != mine["sha256"]:
+        return (f"the sweep's scenario file differs from this report's (sha256 {theirs['sha256'][:16]}, not "
+                f"{mine['sha256'][:16]}){money}: its figures may not be this scenario's")
+    return None
+
+
+def sweep_context(sweep: dict, run: dict | None = None) -> dict:
     s = sweep["summary"]
     shares = []
     for r in s.get("ranking", []):
         ci = r.get("first_share_ci") or {}
 
         def share(k, v):
+            # 100 % or 0 % only when exactly so, as the sentence below states them (a 99.8 % bound never reads 100)
             name = k.upper() if k != "none feasible" else k
             lo_hi = ci.get(k)
-            return f"{name} {100 * v:.0f} %" + (f" ({100 * lo_hi[0]:.0f}-{100 * lo_hi[1]:.0f} %)" if lo_hi else "")
+            return f"{name} {share_pct(v)}" + (f" ({share_pct(lo_hi[0])} to {share_pct(lo_hi[1])})" if lo_hi else "")
         statement = (r.get("separation") or {}).get("statement")
         shares.append({"criterion": r["criterion"],
                        "shares": ", ".join(share(k, v) for k, v in r.get("first_share", {}).items() if v),
@@ -352,7 +376,8 @@ def sweep_context(sweep: dict) -> dict:
     return {"folder": sweep["folder"], "mode": s.get("mode"), "cases": s.get("cases"), "varied": s.get("varied", []),
             "grid": s.get("grid"), "sampling": s.get("sampling"), "shares": shares, "changes": changes,
             "flags": flags, "figures": sweep_figures(sweep), "scenario": s.get("scenario"),
-            "overrides": sc.get("overrides", []), "sha256": sc.get("sha256")}
+            "overrides": sc.get("overrides", []), "sha256": sc.get("sha256"),
+            "mismatch": _sentence(sweep_mismatch(sweep, run)) if run and sweep_mismatch(sweep, run) else None}
 
 
 # ------------------------------------------------------------------------------------------------------ render
@@ -575,7 +600,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         "claims": claims,
         "caution": CAUTION,
         "cautions": CAUTIONS,
-        "sweep": sweep_context(sweep) if sweep else None,
+        "sweep": sweep_context(sweep, run) if sweep else None,
         "run": {"version": run.get("version"), "created": run.get("created"), "command": " ".join(run.get("command",
                                                                                                           [])),
                 "python": run.get("python"), "libraries": run.get("libraries", {}), "path": sc.get("path"),
