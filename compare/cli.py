@@ -316,6 +316,10 @@ def cmd_sweep(args) -> int:
         state = {"header": True, "part": 0}
 
         def sink(frame):
+            if args.sensitivity == "sobol":       # which block of Saltelli's design each row belongs to
+                from .sensitivity import block_labels
+                frame.insert(1, "sobol_block", block_labels(sorted(scenario.uncertainty), args.samples,
+                                                            frame["case"].to_numpy()))
             if csv_file is not None:
                 frame.to_csv(csv_file, index=False, header=state["header"])
                 state["header"] = False

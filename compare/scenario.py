@@ -595,6 +595,8 @@ def _uncertainty(raw, specs, label, errors, ctx, raw_values=None) -> dict:
         except InputError as exc:
             errors.append(str(exc))
             continue
+        # a feed temperature parses as an array of its periods; a distribution's parameter is one number
+        params = {k: float(np.mean(v)) for k, v in params.items()}
         if kind == "triangular" and not params["low"] <= params["mode"] <= params["high"]:
             errors.append(f"{where}: expected low <= mode <= high, got {dist}")
             continue

@@ -127,8 +127,32 @@ def _num(x) -> float | None:
     return x if np.isfinite(x) else None
 
 
+INDEX_FIELDS = ("first", "first_low", "first_high", "total", "total_low", "total_high")
+#: how the shown indices and their intervals relate to the estimator's own figures
+CLIPPED = ("indices and their 95 % intervals are shown within [0, 1]: a variance share cannot pass those bounds, "
+           "but the estimator and its bootstrap interval can by sampling error; the unclipped figures are each "
+           "row's raw")
+
+
+#: what a tornado says of a scenario's [correlation] section
+NOT_CORRELATED = ("the scenario's rank correlations ([correlation]) are not applied here: each key moves alone")
+
+
+def _share(x: float | None) -> float | None:
+    """An index shown as a share: within [0, 1], never -0.0."""
+    return None if x is None else min(1.0, max(0.0, x)) + 0.0
+
+
+def block_labels(keys: list, n: int, cases) -> np.ndarray:
+    """The block of Saltelli's design each case index belongs to: ``A`` and ``B`` (the plain samples), then
+    ``AB:<key>`` (A with that key's column from B), in the order :func:`sobol_cases` builds them."""
+    names = np.array(["A", "B"] + [f"AB:{k}" for k in keys], dtype=object)
+    return names[np.asarray(cases) // n]
+
+
 def sobol_rows(sr, keys: list, n: int, seed: int | None) -> list[dict]:
-    """``summary.sensitivity`` rows of a Sobol sweep: per technology, metric (and ``feasible``) and key."""
+    """``summary.sensitivity`` rows of a Sobol sweep: per technology, metric (and ``feasible``) and key. Indices and
+    interval ends are clipped to [0, 1] (:data:`CLIPPED`); ``raw`` keeps the estimator's own figures."""
     d = len(keys)
     out = []
     for t in sr.technologies:
@@ -139,13 +163,14 @@ def sobol_rows(sr, keys: list, n: int, seed: int | None) -> list[dict]:
             for j, key in enumerate(keys):
                 row = {"technology": t, "metric": name, "key": key}
                 if r is None:
-                    row.update({f: None for f in ("first", "first_low", "first_high", "total", "total_low",
-                                                  "total_high")})
+                    row.update({f: None for f in INDEX_FIELDS})
                     row["samples"] = 0
+                    row["raw"] = {f: None for f in INDEX_FIELDS}
                 else:
-                    row.update({f: _num(r[f][j]) for f in ("first", "first_low", "first_high", "total",
-                                                           "total_low", "total_high")})
+                    raw = {f: _num(r[f][j]) for f in INDEX_FIELDS}
+                    row.update({f: _share(v) for f, v in raw.items()})
                     row["samples"] = r["samples"]
+                    row["raw"] = {f: None if v is None else v + 0.0 for f, v in raw.items()}
                 out.append(row)
     return out
 
@@ -187,7 +212,7 @@ def subset(sr, rows: slice):
                    feasible={t: v[rows] for t, v in sr.feasible.items()}, floor=sr.floor[rows])
 
 
-__all__ = ["METHODS", "SENSITIVITY_METRICS", "sobol_cases", "sobol_indices", "sobol_rows", "tornado_cases",
+__all__ = ["METHODS", "SENSITIVITY_METRICS", "CLIPPED", "block_labels", "sobol_cases", "sobol_indices", "sobol_rows", "tornado_cases",
            "tornado_rows", "subset"]
 
 
@@ -201,7 +226,7 @@ def analyse(method: str, scenario, result, n: int, seed: int | None, chunk: int 
         rows = sobol_rows(result, keys, n, seed)
         body = {"method": "sobol", "base_samples": n, "evaluations": result.n, "keys": keys,
                 "design": "Saltelli: A, B (the 2n samples summarised), then one block per key", "confidence": 0.95,
-                "rows": rows}
+                "note": CLIPPED, "rows": rows}
         return body, subset(result, slice(0, 2 * n))
     cases, keys = tornado_cases(scenario)
     tr = sw.run(scenario, cases, mode="samples", chunk=chunk)
@@ -209,4 +234,6 @@ def analyse(method: str, scenario, result, n: int, seed: int | None, chunk: int 
     body = {"method": "tornado", "keys": keys, "evaluations": tr.n,
             "design": "every key at its median; each key in turn at its p10 and p90 (correlations not applied)",
             "rows": tornado_rows(tr, keys, units)}
+    if scenario.correlation:
+        body["note"] = NOT_CORRELATED
     return body, result

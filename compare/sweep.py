@@ -769,6 +769,30 @@ def grid_frame(sr: SweepResult):
     return frame.rename(columns={c: f"{c} [{units[c]}]" for c in frame.columns if c in units})
 
 
+def distributions_shown(scenario: Scenario) -> dict:
+    """The ``[uncertainty]`` distributions in each key's display unit (the unit of the cases file's column and of
+    the scenario's value; SI inside), with ``unit`` named: key -> {distribution, unit, its parameters}. A standard
+    deviation is a difference (scaled, never offset); a geometric standard deviation has no unit."""
+    keys = sorted(scenario.uncertainty)
+    units = display_units(scenario, keys)
+    out = {}
+    for key in keys:
+        unit, show = units[key]
+        dist = scenario.uncertainty[key]
+        entry = {"distribution": dist["distribution"], "unit": unit}
+        for name, v in dist.items():
+            if name == "distribution":
+                continue
+            if name == "gsd":
+                entry[name] = float(v)
+            elif name == "sd":
+                entry[name] = float(tidy(float(v) * getattr(show, "factor", 1.0)))
+            else:
+                entry[name] = float(tidy(show(float(v))))
+        out[key] = entry
+    return out
+
+
 def overrides(scenario: Scenario) -> dict:
     """The keys set on the command line (``--set``) as written: dotted key -> value text. Every figure of the sweep
     holds at these values, so its files say so beside the break-even points."""
@@ -793,7 +817,7 @@ def payload(sr: SweepResult, sensitivity: dict | None = None) -> dict:
             body["grid_points"] = grid_points(sr)
     else:
         body["sampling"] = {"seed": sr.seed, "latin_hypercube": sr.lhs,
-                            "distributions": sr.scenario.uncertainty,
+                            "distributions": distributions_shown(sr.scenario),
                             "rank_correlations": [{"keys": list(p), "rho": r}
                                                   for p, r in sorted(sr.scenario.correlation.items())]}
     if sensitivity is not None:

@@ -109,3 +109,72 @@ def test_grid_costs_share_their_decimals_across_technologies(recovery_grid):
     cells = format_cells(rows, layout)
     costs = [c for r in cells for c, name in zip(r, columns) if name.endswith("cost [USD/m3]") and c != "—"]
     assert len(costs) == 8 and len({len(c.split(".")[1]) for c in costs}) == 1
+
+
+def test_sobol_indices_shown_within_zero_and_one_raw_kept():
+    # y = x1 alone: x1's indices are 1 and x2's 0, so the estimator's intervals pass both bounds by sampling error
+    from types import SimpleNamespace
+
+    from compare import sensitivity as se
+    from scipy.stats import qmc
+    n, d = 64, 2
+    base = qmc.Sobol(d=2 * d, scramble=True, seed=1).random_base2(6)
+    A, B = base[:, :d], base[:, d:]
+    blocks = [A, B] + [np.where(np.arange(d) == i, B, A) for i in range(d)]
+    y = np.concatenate([b[:, 0] + 1e-3 * b[:, 1] ** 2 for b in blocks])
+    sr = SimpleNamespace(technologies=["x"], feasible={"x": np.ones(y.size, bool)},
+                         metrics={"x": {m: y for m in ("lcow", "work_equivalent", "emissions")}})
+    rows = [r for r in se.sobol_rows(sr, ["a", "b"], n, seed=2) if r["metric"] == "levelized_cost_per_m3"]
+    raw = [v for r in rows for v in r["raw"].values()]
+    assert max(raw) > 1 and min(raw) < 0                       # the estimator's own figures pass the bounds
+    for r in rows:
+        assert 0.0 <= r["first_low"] <= r["first_high"] <= 1.0 and 0.0 <= r["total_low"] <= r["total_high"] <= 1.0
+        assert 0.0 <= r["first"] <= 1.0 and 0.0 <= r["total"] <= 1.0
+    shown = [{f: r[f] for f in se.INDEX_FIELDS} for r in rows]
+    assert "-0.0" not in json.dumps(shown) and rows[0]["total_high"] == 1.0
+
+
+def test_sobol_cases_name_their_block(toy, tmp_path, capsys):
+    from tests.test_sensitivity import _write
+    assert main(["sweep", str(_write(tmp_path)), "--samples", "16", "--sensitivity", "sobol", "--format", "csv",
+                 "--no-save", "--quiet"]) == 0
+    import io
+
+    import pandas as pd
+    cases = pd.read_csv(io.StringIO(capsys.readouterr().out))
+    blocks = cases.groupby("sobol_block")["case"].agg(["min", "max"])
+    assert blocks.loc["A"].tolist() == [0, 15] and blocks.loc["B"].tolist() == [16, 31]
+    assert blocks.loc["AB:energy.electricity_price"].tolist() == [32, 47]
+    assert blocks.loc["AB:toy.efficiency"].tolist() == [48, 63]
+
+
+def test_sampling_ranges_in_the_scenarios_units(toy):
+    from tests.test_sweep import scenario
+    s = scenario(uncertainty={
+        "energy.electricity_price": {"low": "0.05 USD/kWh", "mode": "0.07 USD/kWh", "high": "0.11 USD/kWh"},
+        "toy.capital_cost": {"median": "900 USD/(m^3/day)", "gsd": "1.3"},
+        "feed.temperature": {"mean": "25 degC", "sd": "2 K"}})
+    body = sw.payload(sw.run(s, sw.sampler(s, 200, seed=1), mode="samples", seed=1))
+    shown = body["sampling"]["distributions"]
+    assert shown["energy.electricity_price"] == {"distribution": "triangular", "unit": "USD/kWh", "low": 0.05,
+                                                 "mode": 0.07, "high": 0.11}
+    assert shown["toy.capital_cost"] == {"distribution": "lognormal", "unit": "USD/(m^3/day)", "median": 900.0,
+                                         "gsd": 1.3}
+    assert shown["feed.temperature"] == {"distribution": "normal", "unit": "degC", "mean": 25.0, "sd": 2.0}
+
+
+def test_tornado_says_correlations_are_not_applied_and_gives_the_median_cost(toy, tmp_path, capsys):
+    from tests.test_sensitivity import _write
+    path = _write(tmp_path, '[correlation]\n"toy.efficiency" = { "energy.electricity_price" = 0.5 }\n')
+    assert main(["sweep", str(path), "--samples", "200", "--sensitivity", "tornado", "--format", "markdown",
+                 "--no-save", "--quiet"]) == 0
+    text = capsys.readouterr().out
+    assert "rank correlations ([correlation]) are not applied here" in text
+    header = next(line for line in text.splitlines() if line.startswith("| technology | key (p10 to p90)"))
+    assert "cost, every key at its median" in header
+    row = next(line for line in text.splitlines() if line.startswith("| toy | toy.efficiency"))
+    base, low, high = (float(x) for x in row.split("|")[3:6])
+    assert low > base > high                                   # cost falls as the efficiency rises
+    assert main(["sweep", str(_write(tmp_path)), "--samples", "200", "--sensitivity", "tornado", "--format",
+                 "markdown", "--no-save", "--quiet"]) == 0
+    assert "not applied" not in capsys.readouterr().out

@@ -336,11 +336,12 @@ def sobol_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per
         ax.set_title(f"{t.upper()} ({n} base rows used)" if n else f"{t.upper()}: no variation or too few feasible "
                      "rows", fontsize=10, loc="left")
         ax.grid(axis="x", alpha=0.3)
-        ax.set_xlim(-0.05, 1.2)
+        ax.set_xlim(-0.02, 1.05)
         ax.axvline(1.0, color="0.6", lw=0.8)
     axes[0, 0].legend(fontsize=8, loc="lower right")
     words = metric_label(metric, scenario.currency).split(" [")[0]
-    axes[-1, 0].set_xlabel(f"share of the variance of the {words} (bars: estimate; whiskers: 95 % interval)")
+    axes[-1, 0].set_xlabel(f"share of the variance of the {words} (bars: estimate; whiskers: 95 % interval, "
+                                f"shown within 0 to 1)")
     fig.suptitle(f"{scenario.name}: which uncertain inputs drive the {words}\n(Sobol indices, "
                  f"{sens['base_samples']} base samples; keys below 1 % left out)", fontsize=11)
     fig.tight_layout()

@@ -606,7 +606,9 @@ def sensitivity_sections(sens: dict, body: dict) -> list[tuple]:
         rows = [[r["technology"], r["key"], _interval(r, "first"), _interval(r, "total"), r["samples"]]
                 for r in sens["rows"] if r["metric"] == "levelized_cost_per_m3"]
         out = [(f"Sobol indices of the levelized cost, 95 % intervals ({sens['base_samples']} base samples, "
-                f"{sens['evaluations']} evaluations)", ["technology", "key", "first order", "total", "rows used"],
+                f"{sens['evaluations']} evaluations); shown within [0, 1]: the estimator's interval can pass the "
+                "bounds by sampling error (summary.json keeps each row's raw figures)",
+                ["technology", "key", "first order", "total", "rows used"],
                 rows, Layout(keys=(1,)))]
         top = []
         for (t, m) in dict.fromkeys((r["technology"], r["metric"]) for r in sens["rows"]):
@@ -628,10 +630,15 @@ def sensitivity_sections(sens: dict, body: dict) -> list[tuple]:
             continue                # a key with no effect on this technology
         lo, hi = fmt_group([r["low"], r["high"]])
         rows.append([r["technology"], with_unit(f"{r['key']} {lo} to {hi}", r["unit"]),
-                     r["at_low"], r["at_high"], swing])
+                     r["base"], r["at_low"], r["at_high"], swing])
+    # every figure is a cost in one unit: they share their decimals
+    shown = iter(fmt_group([v for row in rows for v in row[2:]]))
+    rows = [row[:2] + [next(shown) for _ in row[2:]] for row in rows]
+    note = f"; {sens['note']}" if sens.get("note") else ""
     return [(f"tornado: levelized cost [{cost_unit}] with each key at its p10 and p90, the others at their medians "
-             "(keys with no effect left out)",
-             ["technology", "key (p10 to p90)", "cost at p10", "cost at p90", "swing"], rows, Layout(text=(1,)))]
+             f"(keys with no effect left out){note}",
+             ["technology", "key (p10 to p90)", "cost, every key at its median", "cost at p10", "cost at p90",
+              "swing"], rows, Layout(text=(1,)))]
 
 
 def sweep_tables(console: Console, body: dict) -> None:
