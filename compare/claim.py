@@ -374,10 +374,13 @@ def judge(source, claim: dict, overrides=()) -> dict:
     position = None
     if q > 0 and Th is not None and float(Th) <= T_hot:
         verdict = "invalid"
-        t_feed = (f"{T0 - 273.15:.1f} degC" if T_feed.size == 1 or float(Th) <= T0 else
-                  f"up to {T_hot - 273.15:.1f} degC in its warmest month")
-        why = (f"heat at {float(Th) - 273.15:.3g} degC is no warmer than the feed ({t_feed}): it cannot drive "
-               f"{name}; its exergy here is zero, so the claim as stated cannot be judged")
+        if T_feed.size == 1 or float(Th) <= T0:
+            why = (f"heat at {float(Th) - 273.15:.3g} degC is no warmer than the feed ({T0 - 273.15:.1f} degC): it "
+                   f"cannot drive {name}; its exergy here is zero, so the claim as stated cannot be judged")
+        else:
+            why = (f"heat at {float(Th) - 273.15:.3g} degC is no warmer than the feed in its warmest months (up to "
+                   f"{T_hot - 273.15:.1f} degC): it cannot drive {name} then, so the claim as stated cannot be "
+                   "judged year-round")
     elif w_claim < lw:
         verdict = "below_floor"
         why = (f"the claim's work equivalent {fmt(w_claim)} is below the least work of its own streams, {fmt(lw)}, "

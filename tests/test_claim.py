@@ -260,3 +260,13 @@ def test_heat_no_warmer_than_the_feed_makes_a_claim_invalid(site, heat_temperatu
     assert (f"heat at {heat_temperature:g} degC is no warmer than the feed (25.0 degC): it cannot drive MED"
             in j["explanation"])
     assert judge(site, claim("med", 1.5, 60.0, 70.0, recovery=0.4))["verdict"] != "invalid"
+
+
+def test_heat_below_the_warmest_months_feed_is_invalid_too():
+    # the fictional Gull Harbour feed runs 24-33 degC over the months (production-weighted 28.4): heat at 30 degC is
+    # above the mean but cannot drive a thermal process in the warmest months
+    from pathlib import Path
+    path = str(Path(__file__).resolve().parents[1] / "scenarios" / "gull-harbour.toml")
+    j = judge(path, claim("med", 1.5, 60.0, 30.0, recovery=None))
+    assert j["verdict"] == "invalid"
+    assert "no warmer than the feed in its warmest months (up to 33.0 degC)" in j["explanation"]

@@ -62,9 +62,9 @@ def notes(j: dict) -> list[str]:
     out = [f"Verdict: {j['verdict']} ({verdict_words(j)}). {j['explanation'][0].upper()}"
            f"{j['explanation'][1:]}."]
     if c["heat_kwh_per_m3"] and j["verdict"] == "invalid":
-        out.append(f"Heat is valued by its exergy, (1 - T0/T_heat), T0 = {s['dead_state_c']:.1f} degC "
-                   f"({s['dead_state']}): heat at {fmt_number(c['heat_temperature_c'], 3)} degC has none, and a "
-                   "thermal process needs heat warmer than its feed.")
+        out.append(f"Heat is valued by its exergy, Q (1 - T0/T_heat) with T0 the feed temperature ("
+                   f"{s['dead_state_c']:.1f} degC, production-weighted): heat no warmer than the feed has none, and "
+                   "a thermal process needs heat warmer than its feed all year.")
     elif c["heat_kwh_per_m3"]:
         out.append(f"Heat is valued by its exergy: {fmt_number(c['heat_kwh_per_m3'], 3)} kWh_th/m3 x (1 - T0/T_heat) "
                    f"= x {c['exergy_factor']:.4f}, with T0 = {s['dead_state_c']:.1f} degC, {s['dead_state']}.")
