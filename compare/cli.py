@@ -770,6 +770,8 @@ def main(argv: list[str] | None = None) -> int:
         print("interrupted", file=sys.stderr)
         return 130
     except Terminated:
+        from .present.files import discard_open
+        discard_open()                     # a run folder the signal caught before its command's cleanup
         print("terminated (SIGTERM): nothing saved", file=sys.stderr)
         return 143
     except SystemExit as exc:          # --help and --version

@@ -178,3 +178,20 @@ def test_tornado_says_correlations_are_not_applied_and_gives_the_median_cost(toy
     assert main(["sweep", str(_write(tmp_path)), "--samples", "200", "--sensitivity", "tornado", "--format",
                  "markdown", "--no-save", "--quiet"]) == 0
     assert "not applied" not in capsys.readouterr().out
+
+
+def test_a_termination_right_after_the_folder_is_made_leaves_nothing(toy, tmp_path, monkeypatch, capsys):
+    # SIGTERM can land after the temporary run folder exists but before the command's own cleanup covers it
+    from compare import cli
+    from compare.present import files
+    made = files.RunFolder.__init__
+
+    def then_terminated(self, *args, **kw):
+        made(self, *args, **kw)
+        raise cli.Terminated()
+    monkeypatch.setattr(files.RunFolder, "__init__", then_terminated)
+    out = tmp_path / "runs"
+    assert main(["sweep", str(_scenario_file(tmp_path)), "--vary", "toy.recovery=0.3:0.6:3", "--out", str(out),
+                 "--quiet"]) == 143
+    assert capsys.readouterr().err.strip() == "terminated (SIGTERM): nothing saved"
+    assert list(out.iterdir()) == []

@@ -206,10 +206,42 @@ def _slug(text: str) -> str:
     return s[:40] or "run"
 
 
+#: temporary run folders this process has made and neither committed nor discarded
+_OPEN: set = set()
+
+
+class _SigtermHeld:
+    """SIGTERM held back (delivered on leaving) while a temporary folder is made and registered, so that a
+    termination never falls between the two (main thread on POSIX; elsewhere a no-op)."""
+
+    def __enter__(self):
+        import signal
+        import threading
+        self.held = hasattr(signal, "pthread_sigmask") and threading.current_thread() is threading.main_thread()
+        if self.held:
+            signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGTERM})
+
+    def __exit__(self, *exc):
+        if self.held:
+            import signal
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGTERM})
+        return False
+
+
+def discard_open() -> None:
+    """Remove every temporary run folder this process still has open (on the way out after SIGTERM, wherever the
+    signal fell)."""
+    import shutil
+    for tmp in list(_OPEN):
+        shutil.rmtree(tmp, ignore_errors=True)
+        _OPEN.discard(tmp)
+
+
 class RunFolder:
     """A run folder being written: files go into a hidden temporary folder that is renamed into place by
     :meth:`commit`, so a run folder is either absent or whole. An existing folder is never reused (a numeric suffix
-    is added); :meth:`discard` (or leaving a ``with`` block by an exception) removes the temporary folder."""
+    is added); :meth:`discard` (or leaving a ``with`` block by an exception) removes the temporary folder, and
+    :func:`discard_open` every one still open."""
 
     def __init__(self, parent: Path, label: str):
         import datetime as _dt
@@ -219,7 +251,9 @@ class RunFolder:
         clean_leftovers(self.parent)
         stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
         self.base = f"{stamp}-{_slug(label)}"
-        self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.base}.{os.getpid()}.", dir=self.parent))
+        with _SigtermHeld():
+            self.tmp = Path(tempfile.mkdtemp(prefix=f".{self.base}.{os.getpid()}.", dir=self.parent))
+            _OPEN.add(self.tmp)
         self.path: Path | None = None
 
     def write(self, name: str, data: str | bytes) -> Path:
@@ -248,7 +282,9 @@ class RunFolder:
             if target.exists():
                 continue
             try:
-                os.rename(self.tmp, target)      # a non-empty folder of that name makes this fail: never overwritten
+                with _SigtermHeld():
+                    os.rename(self.tmp, target)  # a non-empty folder of that name makes this fail: never overwritten
+                    _OPEN.discard(self.tmp)
             except OSError:
                 if target.exists():
                     continue
@@ -261,6 +297,7 @@ class RunFolder:
     def discard(self) -> None:
         import shutil
         shutil.rmtree(self.tmp, ignore_errors=True)
+        _OPEN.discard(self.tmp)
 
     def __enter__(self):
         return self
