@@ -195,3 +195,16 @@ def test_a_termination_right_after_the_folder_is_made_leaves_nothing(toy, tmp_pa
                  "--quiet"]) == 143
     assert capsys.readouterr().err.strip() == "terminated (SIGTERM): nothing saved"
     assert list(out.iterdir()) == []
+
+
+def test_figure_titles_name_the_keys_set_on_the_command_line(toy, monkeypatch):
+    pytest.importorskip("matplotlib")
+    from compare.present import plots
+    from tests.test_sweep import scenario
+    s = scenario(overrides=["energy.heat_price=0 USD/kWh"])
+    axis = sw.parse_vary("toy.recovery=0.3:0.6:3", s)
+    figures = []
+    monkeypatch.setattr(plots, "_save", lambda fig, folder, stem: figures.append(fig) or [])
+    plots.grid_figure(sw.run(s, sw.grid([axis]), mode="grid", axes=[axis]), None)
+    assert figures[0]._suptitle.get_text().endswith("\nat energy.heat_price = 0 USD/kWh (--set)")
+    assert plots.held(scenario()) == ""

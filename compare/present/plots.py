@@ -88,6 +88,14 @@ def key_label(key: str, unit: str = "", technology: str | None = None) -> str:
     return f"{words} [{unit}]" if unit and unit != "-" else words
 
 
+def held(scenario) -> str:
+    """A figure title's last line naming the keys set on the command line, which every figure holds at ("" when
+    none)."""
+    from ..sweep import overrides
+    sets = overrides(scenario)
+    return "\nat " + "; ".join(f"{k} = {v}" for k, v in sets.items()) + " (--set)" if sets else ""
+
+
 def _scale(name: str) -> float:
     return 100.0 if _BY_NAME.get(name) is not None and _BY_NAME[name].fmt == "percent" else 1.0
 
@@ -172,7 +180,8 @@ def grid_figure(sr, folder) -> list[str]:
     fig.legend(handles=handles, loc="lower center", ncol=min(4, len(handles)), fontsize=8, frameon=False,
                bbox_to_anchor=(0.5, 0.0))
     more = "" if len(rests) == int(np.prod(shape[1:])) else f"; first {len(rests)} combinations of the other keys"
-    fig.suptitle(f"{sr.scenario.name}: cost and energy against {key_label(ax0.key)} ({sr.n} cases{more})")
+    fig.suptitle(f"{sr.scenario.name}: cost and energy against {key_label(ax0.key)} ({sr.n} cases{more})"
+                 + held(sr.scenario))
     fig.tight_layout(rect=(0, 0.07, 1, 1))
     _caption(fig)
     names = _save(fig, folder, "sweep")
@@ -238,7 +247,7 @@ def samples_figure(sr, folder) -> list[str]:
     fig.legend(handles, labels, loc="lower center", ncol=min(4, len(labels)), fontsize=8, frameon=False,
                bbox_to_anchor=(0.5, 0.0))
     fig.suptitle(f"{sr.scenario.name}: distributions over {sr.n} samples"
-                 + (" (Latin hypercube)" if sr.lhs else "") + "; dots mark medians")
+                 + (" (Latin hypercube)" if sr.lhs else "") + "; dots mark medians" + held(sr.scenario))
     fig.tight_layout(rect=(0, 0.06, 1, 1))
     _caption(fig)
     names = _save(fig, folder, "distributions")
@@ -298,7 +307,7 @@ def tornado_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_p
     axes[-1, 0].set_xlabel(metric_label(metric, scenario.currency))
     fig.suptitle(f"{scenario.name}: what moves the {metric_label(metric, scenario.currency).split(' [')[0]}\n"
                  "(each key at its 10th and 90th percentile, the others at their medians; keys with no effect left "
-                 "out)", fontsize=11)
+                 "out)" + (f"\n{sens['note']}" if sens.get("note") else "") + held(scenario), fontsize=11)
     fig.tight_layout()
     _caption(fig)
     names = _save(fig, folder, "tornado")
@@ -343,7 +352,7 @@ def sobol_figure(sens: dict, scenario, folder, metric: str = "levelized_cost_per
     axes[-1, 0].set_xlabel(f"share of the variance of the {words} (bars: estimate; whiskers: 95 % interval, "
                                 f"shown within 0 to 1)")
     fig.suptitle(f"{scenario.name}: which uncertain inputs drive the {words}\n(Sobol indices, "
-                 f"{sens['base_samples']} base samples; keys below 1 % left out)", fontsize=11)
+                 f"{sens['base_samples']} base samples; keys below 1 % left out)" + held(scenario), fontsize=11)
     fig.tight_layout()
     _caption(fig)
     names = _save(fig, folder, "sobol")
