@@ -100,6 +100,12 @@ def test_feasibility_break_even_is_shaded_in_the_figure(recovery_grid, monkeypat
     assert len(spans) == 1
     words = " ".join(t.get_text() for t in cost.texts)
     assert "RO to MED between 0.550 and 0.600" in words and "RO feasible at 0.550, not at 0.600" in words
+    # the note sits in headroom above the data, so that it hides no line (MED and FO run near the top)
+    fig = figures[0]
+    fig.canvas.draw()
+    note = next(t for t in cost.texts if "RO to MED" in t.get_text()).get_window_extent()
+    highest = max(np.nanmax(line.get_ydata()) for line in cost.lines if len(line.get_ydata()))
+    assert cost.transData.transform((0.0, highest))[1] < note.y0
 
 
 def test_grid_costs_share_their_decimals_across_technologies(recovery_grid):

@@ -168,6 +168,10 @@ def grid_figure(sr, folder) -> list[str]:
         ax.set_ylabel(metric_label(name, cur))
         ax.grid(alpha=0.3)
         ax.set_ylim(bottom=0)
+        if shown:
+            # headroom above the data for the break-even notes, so that they cover no line
+            top = ax.get_ylim()[1]
+            ax.set_ylim(top=top * (1 + 0.16 * shown))
     for ax in axes[1]:
         ax.set_xlabel(key_label(ax0.key, ax0.unit))
     # one legend: colours are technologies, line styles the other keys' values
