@@ -369,7 +369,7 @@ def _march(P_feed, c, shares, n_seg, full=False, slope=True):
     edges = 1.0 - (1.0 - np.arange(steps + 1) / steps) ** GRADING
     kernel = _march_kernel(pi)
     if kernel is not None:
-        x, xs, ms, cs, salt, Q, J0, Sp0, y = kernel.run(P_feed, c, shares, n_seg, edges, full, slope, _CONSTS)
+        x, xs, ms, cs, salt, Q, J0, Sp0, y = kernel.run(P_feed, c, shares, edges, full, slope, _CONSTS)
         if not full:
             return x
         return _profile(x, xs, ms, cs, salt, Q, J0, Sp0, y, c, share, cum, pressure)

@@ -302,7 +302,7 @@ def _along_s(table):
     return _ALONG_S[key][1], _ALONG_S[key][2]
 
 
-def run(P_feed, c, shares, n_seg, edges, full, slope, consts):
+def run(P_feed, c, shares, edges, full, slope, consts):
     """The compiled march of the cases of ``c`` at feed pressures ``P_feed``: (x, xs, ms, cs, salt, Q, J0, Sp0, y)
     as the numpy march leaves them (``xs``, ``ms``, ``cs``: steps + 1 x cases, or None without ``full``)."""
     n = P_feed.size
