@@ -7,6 +7,8 @@ exits 2 and writes nothing. Unknown keys are errors with the closest valid key s
 
 from __future__ import annotations
 
+import re
+
 import difflib
 import hashlib
 import tomllib
@@ -589,22 +591,40 @@ def _uncertainty(raw, specs, label, errors, ctx, raw_values=None) -> dict:
                 sd_spec = _TEMPERATURE_SPREAD if spec.kind in ("temperature", "temperatures") else \
                     Spec(spec.kind, None, "", spec.unit, "a standard deviation above zero in the unit of the key",
                          lo=0.0, lo_open=True)
-                params = {"mean": mean, "sd": parse_value(sd_spec, dist["sd"], f"{where}.sd", **ctx)}
+                sd = dist["sd"]
+                if sd_spec is _TEMPERATURE_SPREAD and isinstance(sd, str):
+                    # a spread of temperatures is a difference: "1 degC" is 1 K, not 274.15 K
+                    sd = re.sub(r"(?<!delta_)\b(deg[CF])\b", r"delta_\1", sd)
+                try:
+                    params = {"mean": mean, "sd": parse_value(sd_spec, sd, f"{where}.sd", **ctx)}
+                except InputError as exc:           # the message shows the value as written
+                    raise InputError(str(exc).replace(str(sd), str(dist["sd"]))) from None
             else:
                 params = {f: parse_value(spec, dist[f], f"{where}.{f}", **ctx) for f in DISTRIBUTIONS[kind]}
         except InputError as exc:
             errors.append(str(exc))
             continue
         # a feed temperature parses as an array of its periods; a distribution's parameter is one number
-        params = {k: float(np.mean(v)) for k, v in params.items()}
+        many = [k for k, v in params.items() if np.size(v) > 1]
+        if many:
+            errors.append(f"{where}.{many[0]}: expected one value (a distribution's parameter), got "
+                          f"{np.size(params[many[0]])} values")
+            continue
+        params = {k: float(np.asarray(v).reshape(-1)[0]) for k, v in params.items()}
         if kind == "triangular" and not params["low"] <= params["mode"] <= params["high"]:
-            errors.append(f"{where}: expected low <= mode <= high, got {dist}")
+            errors.append(f"{where}: expected low <= mode <= high, got {_inline_table(dist)}")
             continue
         if kind == "uniform" and not params["low"] < params["high"]:
-            errors.append(f"{where}: expected low < high, got {dist}")
+            errors.append(f"{where}: expected low < high, got {_inline_table(dist)}")
             continue
         out[dotted] = {"distribution": kind, **params}
     return out
+
+
+def _inline_table(d: dict) -> str:
+    """A distribution's table as its TOML file writes it: ``{ low = "20 degC", high = "30 degC" }``."""
+    return "{ " + ", ".join(f"{k} = {v!r}".replace("'", '"') if isinstance(v, str) else f"{k} = {v}"
+                            for k, v in d.items()) + " }"
 
 
 #: the largest scenario file read [bytes]; a scenario is a few kilobytes

@@ -120,3 +120,25 @@ def test_fo_regenerator_shares_the_ro_pump_and_membrane_draws():
     single = sw.run(fo_only, {"ro.pump_efficiency": x["ro.pump_efficiency"][:3],
                               "ro.water_permeability": x["ro.water_permeability"][:3]}, mode="samples")
     assert not np.allclose(res.metrics["fo"]["electricity"], single.metrics["fo"]["electricity"])
+
+
+@pytest.mark.parametrize("sd, kelvin", [("1 degC", 1.0), ("1 delta_degC", 1.0), ("1.8 degF", 1.0), ("2 K", 2.0)])
+def test_a_temperature_spread_is_a_difference(sd, kelvin):
+    # "1 degC" as a standard deviation is 1 K (it read as 274.15 K, an absolute temperature)
+    from compare.errors import InputErrors as ScenarioError
+    s = scenario(uncertainty={"feed.temperature": {"mean": "25 degC", "sd": sd}})
+    assert s.uncertainty["feed.temperature"]["sd"] == pytest.approx(kelvin)
+    with pytest.raises(ScenarioError) as err:
+        scenario(uncertainty={"feed.temperature": {"mean": "25 degC", "sd": "-1 degC"}})
+    assert '"-1 degC"' in str(err.value) and "delta_" not in str(err.value)
+
+
+def test_a_distribution_parameter_is_one_value_and_errors_read_as_toml():
+    from compare.errors import InputErrors as ScenarioError
+    with pytest.raises(ScenarioError) as err:
+        scenario(uncertainty={"feed.temperature": {"mean": [f"{t} degC" for t in range(20, 32)], "sd": "1 K"}})
+    assert "uncertainty.feed.temperature.mean: expected one value" in str(err.value) and "12 values" in str(err.value)
+    with pytest.raises(ScenarioError) as err:
+        scenario(uncertainty={"energy.electricity_price": {"low": "0.2 USD/kWh", "mode": "0.1 USD/kWh",
+                                                           "high": "0.3 USD/kWh"}})
+    assert '{ low = "0.2 USD/kWh", mode = "0.1 USD/kWh", high = "0.3 USD/kWh" }' in str(err.value)
