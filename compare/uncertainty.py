@@ -268,7 +268,7 @@ def notes(scenario, specs: dict) -> list[str]:
     for k in sorted(scenario.uncertainty):
         share = outside_share(scenario.uncertainty[k], specs[k])
         if share > 0:
-            out.append(f"uncertainty.{k}: {share:.2%} of the {scenario.uncertainty[k]['distribution']} distribution "
+            out.append(f"uncertainty.{k}: {100 * share:.2f} % of the {scenario.uncertainty[k]['distribution']} distribution "
                        f"lies outside the key's valid range; sampled from it truncated to that range")
     for target, source in shared_targets(scenario, sorted(scenario.uncertainty)).items():
         out.append(f"uncertainty.{source}: also sets {target} in every case (the same equipment; give {target} a "

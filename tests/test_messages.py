@@ -48,7 +48,8 @@ def test_check_keeps_every_key_whole_on_a_narrow_terminal(capsys, monkeypatch):
     assert "brine.evaporation_pond_capital" in joined.replace(" ", "")     # folded onto two lines, not cut
 
 
-@pytest.mark.parametrize("x,shown", [(1.0, "100%"), (0.998, "99.8%"), (0.9999, "99.9%"), (0.0019, "0.2%"),
-                                     (0.0, "0%"), (0.0001, "0.1%"), (0.5, "50%")])
+@pytest.mark.parametrize("x,shown", [(1.0, "100 %"), (0.998, "99.8 %"), (0.9999, "99.9 %"), (0.0019, "0.2 %"),
+                                     (0.0, "0 %"), (0.0001, "0.1 %"), (0.5, "50 %")])
 def test_shares_never_round_to_certainty(x, shown):
     assert share_pct(x) == shown
+    assert share_pct(x, sign=False) == shown[:-2]          # a table cell under a "[%]" label: the number alone

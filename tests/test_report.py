@@ -248,5 +248,5 @@ def test_share_intervals_never_round_a_bound_below_100_to_100(tmp_path):
                  "json"]) == 0
     ctx = sweep_context(read_sweep(next(p for p in tmp_path.iterdir() if p.is_dir())))
     cost = next(s for s in ctx["shares"] if s["criterion"] == "cost")
-    assert cost["shares"].startswith("RO 100% (99.8% to 100%)"), cost["shares"]
-    assert "(99.8% to 100%)" in cost["statement"]
+    assert cost["shares"].startswith("RO 100 % (99.8 % to 100 %)"), cost["shares"]
+    assert "(99.8 % to 100 %)" in cost["statement"]

@@ -2,6 +2,7 @@
 statement when two technologies cannot be told apart; grid summaries per point; the DataFrame and xarray API."""
 
 import json
+import re
 
 import numpy as np
 import pytest
@@ -38,7 +39,7 @@ def test_separation_statement():
     assert s["samples_needed"] == pytest.approx(1.959964 ** 2 * (2 * 0.4999) ** 2 / 0.02 ** 2, rel=0.01)
     far = {"ro": 0.7, "fo": 0.3, "none feasible": 0.0}
     s = sw.separation(far, {t: sw.wilson(round(v * 1000), 1000) for t, v in far.items()}, 1000, "cost")
-    assert s["separated"] and s["statement"].startswith("RO ranks first on cost in 70%")
+    assert s["separated"] and s["statement"].startswith("RO ranks first on cost in 70 %")
 
 
 def test_samples_summary_carries_intervals(toy):
@@ -56,6 +57,13 @@ def test_samples_summary_carries_intervals(toy):
     rows = {r[0]: r[1] for r in sweep_sections(body)[0][2]}
     lo, hi = row["ci"]["p50"]
     assert rows["levelized cost p50, its 95 % interval [USD/m3]"] == f"{fmt_number(lo)} to {fmt_number(hi)}"
+    # the labels carry the unit "[%]": no cell repeats it, and a range reads "a to b" as in the sentences
+    eff = next(r for r in body["summary"] if r["metric"] == "second_law_efficiency" and r["technology"] == "toy")
+    assert re.fullmatch(r"[\d.]+ \([\d.]+ to [\d.]+\)", rows["second-law efficiency [%]"]), rows
+    assert rows["second-law efficiency [%]"].startswith(f"{100 * eff['p50']:.1f} (")
+    assert rows["feasible share [%]"] == "100"
+    shares = next(s for s in sweep_sections(body) if s[0].startswith("share of samples ranked first [%]"))
+    assert shares[2][0][1] == "100 (99 to 100)", shares[2][0]
 
 
 def test_grid_points_table_file_and_xarray(toy, tmp_path, capsys):

@@ -25,7 +25,7 @@ def test_truncated_normal_matches_scipy_truncnorm(toy):
     # sampling error of a quantile at n = 20000 is about 1e-3 here
     np.testing.assert_allclose(np.quantile(x["toy.efficiency"], q), ref.ppf(q), atol=4e-3)
     assert not any("clipped" in n for n in notes)
-    assert "30.85%" in notes[0] and "truncated" in notes[0]
+    assert "30.85 %" in notes[0] and "truncated" in notes[0]
 
 
 def test_truncated_lognormal_matches_scipy_on_the_log_scale(toy):

@@ -200,11 +200,15 @@ def value(x, unit: str):
     return int(round(v)) if UNITS[unit].integer else v
 
 
-def share_pct(x: float) -> str:
-    """A share as a percentage that reads 100 % or 0 % only when it is exactly that (99.8 %, not 100 %)."""
+def share_pct(x: float, sign: bool = True) -> str:
+    """A share as a percentage that reads 100 % or 0 % only when it is exactly that (99.8 %, not 100 %). With the
+    sign as a running sentence writes it ("99.8 %"); without it ("99.8") for a table column whose label carries the
+    unit ("[%]")."""
     x = float(x)
     if abs(x - round(x)) < 1e-9:                  # 0 and 1 as such, whatever rounding the interval took
         x = float(round(x))
     if 0.0 < x < 0.005 or 0.995 <= x < 1.0:
-        return f"{min(max(100 * x, 0.1), 99.9):.1f}%"
-    return f"{x:.0%}"
+        text = f"{min(max(100 * x, 0.1), 99.9):.1f}"
+    else:
+        text = f"{100 * x:.0f}"
+    return f"{text} %" if sign else text

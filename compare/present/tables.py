@@ -441,11 +441,12 @@ def _is_percent(row: dict) -> bool:
 
 def _figure(row: dict, v, decimals: int | None = None) -> str:
     """A summary figure as the compare table shows it: a dimensionless efficiency as a percentage; others with
-    the ``decimals`` their row shares (None: its own significant figures)."""
+    the ``decimals`` their row shares (None: its own significant figures). The row's label carries the unit ("[%]"
+    for the efficiency): no cell repeats it."""
     if v is None:
         return "—"
     if _is_percent(row):
-        return f"{fixed(100 * v, 1)} %"
+        return fixed(100 * v, 1)
     return fmt_number(v) if decimals is None else fixed(v, decimals)
 
 
@@ -458,7 +459,7 @@ def _band(row: dict, decimals: int | None = None) -> str:
     if not row["n"]:
         return "-"
     f = lambda v: _figure(row, v, decimals)  # noqa: E731
-    return f"{f(row['p50'])} ({f(row['p10'])}-{f(row['p90'])})"
+    return f"{f(row['p50'])} ({f(row['p10'])} to {f(row['p90'])})"
 
 
 def _range(row: dict, decimals: int | None = None) -> str:
@@ -506,7 +507,7 @@ def sweep_kind(body: dict) -> str:
 
 
 def sweep_sections(body: dict) -> list[tuple]:
-    """The sweep summary as (heading, columns, rows, layout) sections. Samples: p50 (p10-p90) per technology and
+    """The sweep summary as (heading, columns, rows, layout) sections. Samples: p50 (p10 to p90) per technology and
     metric, the share of samples each ranks first with its 95 % interval, and whether the leaders are told apart.
     Grids: the range across the grid, a row per grid point (up to 30) and the break-even points with their units.
     The figures of one metric share their decimals; a dimensionless key shows no unit."""
@@ -515,7 +516,8 @@ def sweep_sections(body: dict) -> list[tuple]:
     grid = body["mode"] == "grid"
     cell = _range if grid else _band
     names = ("min", "max") if grid else ("p10", "p50", "p90")
-    rows = [["feasible share"] + [share_pct(by[(t, 'electricity_kwh_per_m3')]['feasible_share']) for t in techs]]
+    rows = [["feasible share [%]"] + [share_pct(by[(t, 'electricity_kwh_per_m3')]['feasible_share'], sign=False)
+                                       for t in techs]]
     for m, label in SWEEP_METRICS.items():
         unit = by[(techs[0], m)]["unit"] if techs else ""
         unit = "%" if m == "second_law_efficiency" and unit in ("-", "") else unit
@@ -537,20 +539,21 @@ def sweep_sections(body: dict) -> list[tuple]:
     if fl:
         rows.append(["floor: least work, zero recovery [kWh/m3]"] + [cell(fl, _row_decimals([fl], names))] * len(techs))
     what = ("lowest to highest across the grid points (feasible ones)" if grid
-            else "p50 (p10-p90) over feasible samples")
+            else "p50 (p10 to p90) over feasible samples")
     held = set_on_command_line(body)
     out = [(f"{body['scenario']}{', at ' + held if held else ''}: {body['cases']:,} cases ({sweep_kind(body)}); {what}",
             ["metric"] + techs, rows, Layout("row"))]
     share_cols = techs + ["none feasible"]
     if grid:
-        out.append(("share of grid points ranked first", ["criterion"] + share_cols,
-                    [[r["criterion"]] + [share_pct(r['first_share'].get(t, 0)) for t in share_cols]
+        out.append(("share of grid points ranked first [%]", ["criterion"] + share_cols,
+                    [[r["criterion"]] + [share_pct(r['first_share'].get(t, 0), sign=False) for t in share_cols]
                      for r in body["ranking"]]))
     else:
         def share(r, t):
             ci = r.get("first_share_ci", {}).get(t)
-            return share_pct(r["first_share"].get(t, 0)) + (f" ({share_pct(ci[0])}-{share_pct(ci[1])})" if ci else "")
-        out.append(("share of samples ranked first (95 % interval)", ["criterion"] + share_cols,
+            pct = lambda x: share_pct(x, sign=False)  # noqa: E731
+            return pct(r["first_share"].get(t, 0)) + (f" ({pct(ci[0])} to {pct(ci[1])})" if ci else "")
+        out.append(("share of samples ranked first [%] (95 % interval)", ["criterion"] + share_cols,
                     [[r["criterion"]] + [share(r, t) for t in share_cols] for r in body["ranking"]]))
         out.append(("how sure the ranking is", ["criterion", "statement"],
                     [[r["criterion"], r["separation"]["statement"]] for r in body["ranking"] if "separation" in r],
