@@ -538,7 +538,7 @@ def cmd_report(args) -> int:
     if mismatch:
         print(f"warning: --sweep: {mismatch}", file=sys.stderr)
     saved, notes = write_report(parent, scenario.name, payload, run, judgements, sweep,
-                                pdf=args.pdf)
+                                pdf=args.pdf, mismatch=mismatch)
     for line in notes:
         print(line, file=sys.stderr)
     print(f"saved: {saved}", file=sys.stderr)

@@ -230,6 +230,8 @@ def test_a_sweep_of_another_scenario_is_said_once_on_stderr_and_atop_the_sweep(t
     dom.feed((next((tmp_path / "r").iterdir()) / "report.html").read_text(encoding="utf-8"))
     section = dom.page_text.split("Sweep Another scenario. ", 1)        # at the top of the section, under its heading
     assert len(section) == 2 and section[1].startswith("The sweep is of another scenario, Alder Point (fictional)")
+    # how the cases were made and the keys set on the command line, in the words of the terminal and Markdown
+    assert "(grid, varying energy.electricity_price), at fo.enabled = false (--set)." in dom.page_text
     # the same scenario's sweep raises nothing
     assert main(["sweep", str(ours), "--vary", "energy.electricity_price=0.05 USD/kWh,0.2 USD/kWh", "--set",
                  "fo.enabled=false", "--out", str(tmp_path / "own"), "--quiet", "--format", "json"]) == 0
@@ -237,6 +239,23 @@ def test_a_sweep_of_another_scenario_is_said_once_on_stderr_and_atop_the_sweep(t
     assert main(["report", str(ours), "--sweep", str(next((tmp_path / "own").iterdir())), "--out",
                  str(tmp_path / "r2")]) == 0
     assert "warning: --sweep" not in capsys.readouterr().err
+
+
+def test_the_sweep_section_names_latin_hypercube_samples_as_the_terminal_does(tmp_path, monkeypatch):
+    monkeypatch.setattr(browser, "find", lambda: None)
+    from compare.present.tables import sweep_kind
+    scenario = Path(__file__).resolve().parents[1] / "scenarios" / "gull-harbour.toml"
+    assert main(["sweep", str(scenario), "--samples", "40", "--lhs", "--set", "fo.enabled=false", "--out",
+                 str(tmp_path / "s"), "--quiet", "--format", "json"]) == 0
+    sweep = next((tmp_path / "s").iterdir())
+    assert sweep_kind(json.loads((sweep / "summary.json").read_text())) == "Latin hypercube samples"
+    assert main(["report", str(scenario), "--set", "fo.enabled=false", "--sweep", str(sweep), "--out",
+                 str(tmp_path / "r")]) == 0
+    dom = _Dom()
+    dom.feed((next((tmp_path / "r").iterdir()) / "report.html").read_text(encoding="utf-8"))
+    assert "Monte Carlo" not in dom.page_text
+    assert "(Latin hypercube samples, varying " in dom.page_text
+    assert ", at fo.enabled = false (--set)." in dom.page_text
 
 
 def test_share_intervals_never_round_a_bound_below_100_to_100(tmp_path):

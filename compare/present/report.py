@@ -19,7 +19,7 @@ from . import CAUTION
 from .svg import PALETTE, histogram_strips, line_chart, stacked_bars
 from .fields import COST_LINES, design_note, share_pct
 from .tables import (as_written, bracket_unit, build_up_rows, fixed, fmt_group, fmt_number, scaling_rows,
-                     share_block, shared_decimals, with_unit)
+                     set_on_command_line, share_block, shared_decimals, sweep_kind, with_unit)
 
 TEMPLATES = Path(__file__).parent / "templates"
 
@@ -338,7 +338,10 @@ def sweep_mismatch(sweep: dict, run: dict) -> str | None:
     return None
 
 
-def sweep_context(sweep: dict, run: dict | None = None) -> dict:
+def sweep_context(sweep: dict, mismatch: str | None = None) -> dict:
+    """The sweep section as plain data: how its cases were made and the keys set on the command line in the words
+    of the terminal and Markdown (``tables.sweep_kind``, ``tables.set_on_command_line``), and ``mismatch``, the
+    sentence of ``sweep_mismatch`` the caller computed once (None: the same scenario)."""
     s = sweep["summary"]
     shares = []
     for r in s.get("ranking", []):
@@ -376,8 +379,8 @@ def sweep_context(sweep: dict, run: dict | None = None) -> dict:
     return {"folder": sweep["folder"], "mode": s.get("mode"), "cases": s.get("cases"), "varied": s.get("varied", []),
             "grid": s.get("grid"), "sampling": s.get("sampling"), "shares": shares, "changes": changes,
             "flags": flags, "figures": sweep_figures(sweep), "scenario": s.get("scenario"),
-            "overrides": sc.get("overrides", []), "sha256": sc.get("sha256"),
-            "mismatch": _sentence(sweep_mismatch(sweep, run)) if run and sweep_mismatch(sweep, run) else None}
+            "kind": sweep_kind(s), "held": set_on_command_line(s), "sha256": sc.get("sha256"),
+            "mismatch": _sentence(mismatch) if mismatch else None}
 
 
 # ------------------------------------------------------------------------------------------------------ render
@@ -502,7 +505,8 @@ def _question(payload: dict, inputs: dict, techs: list[str]) -> str:
             f"{v('energy.heat_price')}?")
 
 
-def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) -> dict:
+def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None,
+            mismatch: str | None = None) -> dict:
     """Everything the template shows, as plain data."""
     sc = (run.get("scenarios") or [{}])[0]
     inputs = sc.get("inputs", {})
@@ -600,7 +604,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
         "claims": claims,
         "caution": CAUTION,
         "cautions": CAUTIONS,
-        "sweep": sweep_context(sweep, run) if sweep else None,
+        "sweep": sweep_context(sweep, mismatch) if sweep else None,
         "run": {"version": run.get("version"), "created": run.get("created"), "command": " ".join(run.get("command",
                                                                                                           [])),
                 "python": run.get("python"), "libraries": run.get("libraries", {}), "path": sc.get("path"),
@@ -608,7 +612,7 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None) 
     }
 
 
-def render(payload: dict, run: dict, judgements=(), sweep: dict | None = None) -> str:
+def render(payload: dict, run: dict, judgements=(), sweep: dict | None = None, mismatch: str | None = None) -> str:
     """The HTML text of the report."""
     import jinja2
 
@@ -618,18 +622,18 @@ def render(payload: dict, run: dict, judgements=(), sweep: dict | None = None) -
     env.filters["svg"] = Markup
     # dotted keys may break after their dots on a narrow screen
     env.filters["key"] = lambda k: Markup(".<wbr>").join(str(k).split("."))
-    return env.get_template("report.html.j2").render(**context(payload, run, judgements, sweep))
+    return env.get_template("report.html.j2").render(**context(payload, run, judgements, sweep, mismatch))
 
 
 def write_report(parent: Path, label: str, payload: dict, run: dict, judgements=(), sweep: dict | None = None,
-                 pdf: bool = False) -> tuple[Path, list[str]]:
+                 pdf: bool = False, mismatch: str | None = None) -> tuple[Path, list[str]]:
     """Write ``report.html`` (with ``results.json``, ``run.json``, ``claims.json`` when there are claims, and with
     Chromium ``report.png`` and, when asked, ``report.pdf``) into a new run folder; returns it and notes to print."""
     from . import browser
     from .files import RunFolder, to_json
 
     notes = []
-    html = render(payload, run, judgements, sweep)
+    html = render(payload, run, judgements, sweep, mismatch)
     with RunFolder(Path(parent), f"{label}-report") as folder:
         folder.write("report.html", html)
         folder.write("results.json", to_json(payload))
