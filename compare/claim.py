@@ -372,7 +372,16 @@ def judge(source, claim: dict, overrides=()) -> dict:
     fmt = lambda x: f"{x:.2f} kWh/m3"  # noqa: E731
     T_hot = float(np.max(T_feed))
     position = None
-    if q > 0 and Th is not None and float(Th) <= T_hot:
+    # a process that takes heat in its designs (MED, FO with a thermal regenerator) is driven by it; for any other
+    # the claimed heat only adds its exergy, which heat no warmer than the feed lacks
+    thermal = any((d.get("heat_kwh_per_m3") or 0.0) > 0 for d in (scen, best))
+    if q > 0 and Th is not None and float(Th) <= T_hot and not thermal:
+        verdict = "invalid"
+        feed = (f"the feed is at {T0 - 273.15:.1f} degC" if T_feed.size == 1 else
+                f"the feed reaches {T_hot - 273.15:.1f} degC")
+        why = (f"heat at {float(Th) - 273.15:.3g} degC has no work value at this site ({feed}), so the claim as "
+               "stated cannot be judged")
+    elif q > 0 and Th is not None and float(Th) <= T_hot:
         verdict = "invalid"
         if T_feed.size == 1 or float(Th) <= T0:
             why = (f"heat at {float(Th) - 273.15:.3g} degC is no warmer than the feed ({T0 - 273.15:.1f} degC): it "
@@ -416,6 +425,7 @@ def judge(source, claim: dict, overrides=()) -> dict:
             "electricity_kwh_per_m3": e, "heat_kwh_per_m3": q,
             "heat_temperature_c": None if Th is None else float(Th) - 273.15,
             "exergy_factor": phi, "work_equivalent_kwh_per_m3": w_claim,
+            "thermal": thermal,
             "as_written": {k: v for k, v in texts.items() if v not in ("(none)", "")},
         },
         "site": {

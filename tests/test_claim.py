@@ -270,3 +270,21 @@ def test_heat_below_the_warmest_months_feed_is_invalid_too():
     j = judge(path, claim("med", 1.5, 60.0, 30.0, recovery=None))
     assert j["verdict"] == "invalid"
     assert "no warmer than the feed in its warmest months (up to 33.0 degC)" in j["explanation"]
+
+
+def test_an_invalid_claim_of_a_technology_that_takes_no_heat_is_not_judged(capsys):
+    # RO takes no heat: its claimed heat at 30 degC only adds its exergy, which is zero in the warmest months of the
+    # fictional Gull Harbour feed (24-33 degC); the claim is not judged, so neither band nor comparison is shown
+    from pathlib import Path
+    path = str(Path(__file__).resolve().parents[1] / "scenarios" / "gull-harbour.toml")
+    assert main(["claim", path, "--technology", "ro", "--electricity", "3 kWh/m^3", "--heat", "10 kWh/m^3",
+                 "--heat-temperature", "30 degC"]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    assert "Heat at 30 degC has no work value at this site (the feed reaches 33.0 degC)" in out
+    assert "drive RO" not in out and "thermal process" not in out
+    assert "within_model spans" not in out and "not judged" in out
+    assert main(["claim", path, "--technology", "ro", "--electricity", "3 kWh/m^3", "--heat", "10 kWh/m^3",
+                 "--heat-temperature", "30 degC", "--format", "markdown"]) == 0
+    md = capsys.readouterr().out
+    assert "not judged (invalid claim)" in md and "compared (work equivalent)" not in md
+    assert "within_model spans" not in md

@@ -23,9 +23,15 @@ STYLES = {"invalid": "bold red", "below_floor": "bold red", "no_model_design": "
           "below_model": "bold yellow", "within_model": "bold green", "above_model": "bold magenta"}
 
 
+#: an invalid claim of a technology that takes no heat: its heat is not what drives it
+INVALID_NOT_THERMAL = "invalid as stated: its heat has no work value here"
+
+
 def verdict_words(j: dict) -> str:
     """The verdict in words, with where a ``within_model`` claim sits when that matters (its best-practice end)."""
     words = VERDICT_WORDS[j["verdict"]]
+    if j["verdict"] == "invalid" and not j["claim"].get("thermal", True):
+        words = INVALID_NOT_THERMAL
     return f"{words}, {j['position']}" if j.get("position") else words
 
 
@@ -46,6 +52,13 @@ def title(j: dict) -> str:
             f"{heat} at recovery {fmt_number(c['recovery'], 3)}, {c['scope']} scope")
 
 
+def figure_heading(j: dict) -> str:
+    """The heading of the figures' column: an invalid claim is not judged against them, and says so."""
+    if j["verdict"] == "invalid":
+        return "not judged (invalid claim): work equivalent"
+    return "compared (work equivalent)"
+
+
 def figure_rows(j: dict) -> list[list]:
     """The figures a verdict compared, in kWh/m3 of work equivalent."""
     return [[row["figure"], row["kwh_per_m3"]] for row in j["compared"]]
@@ -63,15 +76,17 @@ def notes(j: dict) -> list[str]:
            f"{j['explanation'][1:]}."]
     if c["heat_kwh_per_m3"] and j["verdict"] == "invalid":
         out.append(f"Heat is valued by its exergy, Q (1 - T0/T_heat) with T0 the feed temperature ("
-                   f"{s['dead_state_c']:.1f} degC, production-weighted): heat no warmer than the feed has none, and "
-                   "a thermal process needs heat warmer than its feed all year.")
+                   f"{s['dead_state_c']:.1f} degC, production-weighted): heat no warmer than the feed has none"
+                   + (", and a thermal process needs heat warmer than its feed all year." if c.get("thermal", True)
+                      else "."))
     elif c["heat_kwh_per_m3"]:
         out.append(f"Heat is valued by its exergy: {fmt_number(c['heat_kwh_per_m3'], 3)} kWh_th/m3 x (1 - T0/T_heat) "
                    f"= x {c['exergy_factor']:.4f}, with T0 = {s['dead_state_c']:.1f} degC, {s['dead_state']}.")
     out.append(f"Scope: {c['scope']} ({c['scope_means']}). Recovery {fmt_number(c['recovery'], 3)} from "
                f"{c['recovery_from']}; product at the scenario's target, {fmt_number(s['product_salinity_g_per_kg'], 3)} "
                "g/kg.")
-    out.append(band(j))
+    if j["verdict"] != "invalid":             # an invalid claim is not judged: no band to place it in
+        out.append(band(j))
     out += [f"Least work: {w}." for w in j.get("warnings", [])]
     names = {"best_practice": "best-practice design", "scenario_design": "scenario's design"}
     for lim in j.get("binding_limits", []):
@@ -103,9 +118,6 @@ def band(j: dict) -> str:
     return text + "."
 
 
-    return out
-
-
 def print_claims(console, body: dict) -> None:
     from rich.markup import escape
     from rich.text import Text
@@ -113,7 +125,7 @@ def print_claims(console, body: dict) -> None:
     from ..errors import printable
     from .tables import rich_table
     for j in body["claims"]:
-        console.print(rich_table(title(j), ["compared (work equivalent)", "kWh/m3"], figure_rows(j)))
+        console.print(rich_table(title(j), [figure_heading(j), "kWh/m3"], figure_rows(j)))
         for design, heading in (("best_practice", "best-practice design: keys changed from the scenario's"),
                                 ("scenario_design", "scenario's design: keys changed for the scope")):
             if j[design]["parameters"]:
@@ -137,7 +149,7 @@ def claims_markdown(body: dict) -> str:
     parts = [f"# Claims at {md(body['scenario'])}", ""]
     for j in body["claims"]:
         parts += [f"## {md(title(j))}", "", f"**{md(j['verdict'])}**", "",
-                  markdown_table(["compared (work equivalent)", "kWh/m3"], figure_rows(j)), "",
+                  markdown_table([figure_heading(j), "kWh/m3"], figure_rows(j)), "",
                   "Best-practice design, keys changed from the scenario's:", "",
                   markdown_table(["key", "value", "why"], parameter_rows(j), PARAMETERS), ""]
         if j["scenario_design"]["parameters"]:

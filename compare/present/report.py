@@ -573,9 +573,10 @@ def context(payload: dict, run: dict, judgements=(), sweep: dict | None = None,
                               fmt_row([r.get("least_work_kwh_per_m3") for r in recs], 4))]
     claims = []
     for j in judgements:
-        from .claims import figure_rows, notes, title, verdict_words
+        from .claims import figure_heading, figure_rows, notes, title, verdict_words
         rows = figure_rows(j)
         claims.append({"title": title(j), "verdict": j["verdict"], "words": verdict_words(j),
+                       "heading": figure_heading(j),
                        "figures": [(f, x if _num(v) is not None else "— (no feasible design)")
                                    for (f, v), x in zip(rows, fmt_row([v for _, v in rows]))],
                        "notes": notes(j)[1:], "explanation": _sentence(j["explanation"]),
