@@ -241,12 +241,11 @@ def local_flux(c_D, c_F, T, A, B, S_struct, D, k, pi_D, pi_F, J0=None, rtol=None
     feed's salt c_F that passes the membrane (the draw's own salt; the rest is retained and only polarises); by
     default all of it, the same salt on both sides.
     """
+    c_P = c_F if c_P is None else c_P
     if prepared is not None:
         K, inv_k = prepared
         shape = c_D.shape
-        c_P = c_F if c_P is None else c_P
     else:
-        c_P = c_F if c_P is None else c_P
         c_D, c_F, c_P, T, A, B, S_struct, D, k = np.broadcast_arrays(*(np.asarray(x, dtype=float) for x in (
             c_D, c_F, c_P, T, A, B, S_struct, D, k)))
         shape = c_D.shape
