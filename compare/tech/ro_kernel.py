@@ -9,8 +9,8 @@ vectorised ``exp`` and ``log`` may round differently from the C library's and be
 Newton loop when every case has settled. Constants come in as arguments (a compiled function's cache would keep a
 module constant changed later).
 
-The osmotic-pressure lookup (:func:`_cell` and the lines after each call) repeats the operations of
-:func:`compare.thermo.floor._lookup_slope` for one point, on the table's cells reordered along sqrt(S) (the same
+The osmotic-pressure lookup is :func:`compare.thermo.floor._lookup_slope`'s for one point: the floor's own cell
+function (``_cell``) and the same bilinear lines after it, on the table's cells reordered along sqrt(S) (the same
 numbers), so it gives the table's values; ``tp`` packs the table's scalars (1/du, 1/dt, T_min, u_max, t_max, cells
 along sqrt(S)).
 """
@@ -21,6 +21,8 @@ import math
 
 import numba
 import numpy as np
+
+from ..thermo.floor import compiled_cell
 
 _jit = numba.njit(cache=True, nogil=True, error_model="numpy")
 # Only the outer loop passes arrays: a call between compiled functions that passes an array counts its references
@@ -44,26 +46,8 @@ def _mx(a, b):
     return a if a > b else b
 
 
-@_jit
-def _cell(s, t, tp):
-    """The table cell of salinity s [kg/kg] and T [K] (``floor._lookup_slope``'s steps): its row, the position in it
-    along sqrt(S) and T, sqrt(s) and whether s lies inside the grid along sqrt(S). ``tp``: 1/du, 1/dt, T_min, u_max,
-    t_max and the cells along sqrt(S)."""
-    root = math.sqrt(s) if s > 0.0 else 0.0
-    u = root * tp[0]
-    inside = 1.0 if u < tp[3] else 0.0
-    if not u >= 0.0:
-        u = 0.0
-    if u > tp[3]:
-        u = tp[3]
-    tt = (t - tp[2]) * tp[1]
-    if not tt >= 0.0:
-        tt = 0.0
-    if tt > tp[4]:
-        tt = tp[4]
-    i = int(u)
-    j = int(tt)
-    return j * int(tp[5]) + i, u - i, tt - j, root, inside
+#: the table cell of one point, the floor's own steps (:func:`compare.thermo.floor._cell_steps`), compiled
+_cell = compiled_cell(numba)
 
 
 @_jit
@@ -71,7 +55,9 @@ def _flux(dP, S_b, T, A, B, inv_k, J_start, has_start, iterations, coef, tp, s_c
     """Water flux, permeate salinity and dJ/dP at pressure difference dP over bulk S_b (``local_flux``: Newton's
     method on the film model's residual with its analytic slope, the residual written out once)."""
     S_b = _mn(S_b, s_cap)
-    q, a, b, root, inside = _cell(S_b, T, tp)
+    cells = int(tp[5])
+    i, j, a, b, root, inside = _cell(S_b, T, tp[0], tp[1], tp[2], tp[3], tp[4])
+    q = j * cells + i
     ndp0 = dP - ((((coef[q, 3] * a + coef[q, 2]) * b) + coef[q, 1] * a) + coef[q, 0]) * S_b
     J = _mx(A * ndp0, 0.0)
     if has_start:
@@ -92,11 +78,13 @@ def _flux(dP, S_b, T, A, B, inv_k, J_start, has_start, iterations, coef, tp, s_c
         dS_m = S_b * (dcp * D - cp * (df * (cp - 1) + f * dcp)) / (D * D) if S_m < s_cap else 0.0
         S_m = _mn(S_m, s_cap)
         S_p = f * S_m
-        q, a, b, root, inside = _cell(S_m, T, tp)
+        i, j, a, b, root, inside = _cell(S_m, T, tp[0], tp[1], tp[2], tp[3], tp[4])
+        q = j * cells + i
         y = ((coef[q, 3] * a + coef[q, 2]) * b + coef[q, 1] * a) + coef[q, 0]
         dpm = ((coef[q, 3] * b + coef[q, 1]) * root * half) * inside + y
         pm = y * S_m
-        q, a, b, root, inside = _cell(S_p, T, tp)
+        i, j, a, b, root, inside = _cell(S_p, T, tp[0], tp[1], tp[2], tp[3], tp[4])
+        q = j * cells + i
         y = ((coef[q, 3] * a + coef[q, 2]) * b + coef[q, 1] * a) + coef[q, 0]
         dpp = ((coef[q, 3] * b + coef[q, 1]) * root * half) * inside + y
         pp = y * S_p

@@ -299,23 +299,44 @@ _COMPILED_FROM = 4096
 _PYTHON_UPTO = 8
 
 
+def _cell_steps(s, t, inv_du, inv_dt, t_min, fu_max, ft_max):  # pragma: no cover - compiled
+    """The table cell of one point, salinity s [kg/kg] and T [K], by the steps of :meth:`OsmoticTable.__call__`
+    (edges as there): i and j, the cell along sqrt(S) and along T; a and b, the position inside it; sqrt(s) (0 where
+    s is not positive, NaN included) and 1.0 where sqrt(s) lies inside the grid (0.0 at and beyond its edge). Shared
+    by the lookups below and RO's compiled march (:mod:`compare.tech.ro_kernel`)."""
+    root = np.sqrt(s) if s > 0.0 else 0.0
+    u = root * inv_du
+    inside = 1.0 if u < fu_max else 0.0
+    if u > fu_max:
+        u = fu_max
+    t = (t - t_min) * inv_dt
+    if not t >= 0.0:                           # also NaN
+        t = 0.0
+    if t > ft_max:
+        t = ft_max
+    i = int(u)
+    j = int(t)
+    return i, j, u - i, t - j, root, inside
+
+
+#: the cell function the lookups call: :func:`_cell_steps`, or its compiled form once :func:`_compiled` has run
+_cell = _cell_steps
+_CELL: list = []
+
+
+def compiled_cell(numba):
+    """:func:`_cell_steps` compiled by ``numba`` (once per process, ``cache=True``)."""
+    if not _CELL:
+        _CELL.append(numba.njit(cache=True, nogil=True)(_cell_steps))
+    return _CELL[0]
+
+
 def _lookup(S, T, coef, inv_du, inv_dt, t_min, fu_max, ft_max, cells_t, out):  # pragma: no cover - compiled
     """The table lookup of :meth:`OsmoticTable.__call__` point by point, the same operations in the same order (so
     the compiled and the numpy paths agree exactly; tested)."""
     for k in range(S.size):
         s = S[k]
-        u = np.sqrt(s) * inv_du if s > 0.0 else 0.0
-        if u > fu_max:
-            u = fu_max
-        t = (T[k] - t_min) * inv_dt
-        if not t >= 0.0:                       # also NaN
-            t = 0.0
-        if t > ft_max:
-            t = ft_max
-        i = int(u)
-        j = int(t)
-        a = u - i
-        b = t - j
+        i, j, a, b, _, _ = _cell(s, T[k], inv_du, inv_dt, t_min, fu_max, ft_max)
         r = i * cells_t + j
         out[k] = ((((coef[r, 3] * a + coef[r, 2]) * b) + coef[r, 1] * a) + coef[r, 0]) * s
     return out
@@ -326,22 +347,7 @@ def _lookup_slope(S, T, coef, inv_du, inv_dt, t_min, fu_max, ft_max, cells_t, ou
     half = 0.5 * inv_du
     for k in range(S.size):
         s = S[k]
-        root = np.sqrt(s) if s > 0.0 else 0.0
-        u = root * inv_du
-        inside = 1.0 if u < fu_max else 0.0
-        if not u >= 0.0:
-            u = 0.0
-        if u > fu_max:
-            u = fu_max
-        t = (T[k] - t_min) * inv_dt
-        if not t >= 0.0:                       # also NaN
-            t = 0.0
-        if t > ft_max:
-            t = ft_max
-        i = int(u)
-        j = int(t)
-        a = u - i
-        b = t - j
+        i, j, a, b, root, inside = _cell(s, T[k], inv_du, inv_dt, t_min, fu_max, ft_max)
         r = i * cells_t + j
         y = ((coef[r, 3] * a + coef[r, 2]) * b + coef[r, 1] * a) + coef[r, 0]
         slope[k] = ((coef[r, 3] * b + coef[r, 1]) * root * half) * inside + y
@@ -358,6 +364,8 @@ def _compiled():
     if not _KERNEL:
         try:
             import numba
+            global _cell
+            _cell = compiled_cell(numba)           # the kernels call it compiled (read when they compile)
             jit = numba.njit(cache=True, nogil=True)
             _KERNEL.extend([jit(_lookup), jit(_lookup_slope)])
         except Exception:                      # noqa: BLE001 - numba absent or unusable: the numpy path serves
